@@ -1,0 +1,124 @@
+import { ErrataError } from '../errors.js';
+import { keyExpression, keyText } from '../engine/keys.js';
+import { ident } from '../engine/sql.js';
+import type { ProjectBuild, TableBuild } from '../build/build-project.js';
+import type { ChangeKind } from '../corrections/apply-corrections.js';
+import type { ApprovalNote } from '../project/notes.js';
+import { findTable } from '../project/config.js';
+import { auditOf, type Introduced } from './history.js';
+
+export interface CellEvent {
+  correction: string;
+  file: string;
+  step: number;
+  stepKind: string;
+  line: number;
+  change: ChangeKind;
+  /** The column's name when the step ran (it may be renamed later). */
+  column: string | null;
+  old: string | null;
+  new: string | null;
+  reason: string;
+  approval: string | null;
+  note: ApprovalNote | null;
+  introduced: Introduced | null;
+}
+
+export interface CellHistory {
+  table: string;
+  key: string;
+  column: string;
+  /** The raw delivery's text for the cell; null when missing there or the column is not raw. */
+  raw: { value: string | null; column: string | null; rowFound: boolean };
+  clean: { value: string | null; rowFound: boolean; columnFound: boolean };
+  events: CellEvent[];
+}
+
+/**
+ * Why a clean cell holds its value: the raw text, then every correction step that touched the cell,
+ * its row or its column, in the order they applied, with reason and approval.
+ */
+export async function explainCell(
+  build: ProjectBuild,
+  request: { table: string; key: string[]; column: string },
+  notes: Map<string, ApprovalNote>,
+  origins: Map<string, Introduced>,
+): Promise<CellHistory> {
+  const config = findTable(build.config, request.table);
+  const table = build.tables.find((t) => t.config.name === config.name) as TableBuild;
+  if (request.key.length !== config.key.length) {
+    throw new ErrataError('USAGE', `table ${config.name} has a key of ${config.key.length} column${config.key.length > 1 ? 's' : ''} (${config.key.join(', ')}); ${request.key.length} value${request.key.length > 1 ? 's were' : ' was'} given`, {
+      hint: 'Give one value per key column, separated by commas, e.g. errata why visits A17,3 weight_kg.',
+    });
+  }
+  const key = keyText(request.key);
+  const { session } = build;
+  const events = await session.all<{ correction: string; step: number; change: ChangeKind; column: string | null; old: string | null; new: string | null }>(
+    `SELECT "correction", "step", "change", "column", "old", "new" FROM ${ident(table.lineageTable)}
+     WHERE "key" = $1 OR "key" IS NULL ORDER BY "correction", "step"`,
+    [key],
+  );
+  // Follow renames backwards to learn every name the column had.
+  const names = new Set([request.column]);
+  let rawColumn: string | null = request.column;
+  for (const e of [...events].reverse()) {
+    if (e.change === 'column-renamed' && e.new !== null && names.has(e.new)) {
+      names.add(e.old!);
+      if (rawColumn === e.new) rawColumn = e.old;
+    }
+    if (e.change === 'column-added' && e.column !== null && names.has(e.column) && rawColumn === e.column) rawColumn = null;
+  }
+  const relevant = events.filter((e) => e.change === 'row-deleted' || (e.column !== null && names.has(e.column)));
+
+  const rawColumns = await session.all<{ column_name: string }>(`SELECT column_name FROM duckdb_columns() WHERE table_name = $1`, [table.rawTable]);
+  if (rawColumn && !rawColumns.some((c) => c.column_name === rawColumn)) rawColumn = null;
+  const rawRow = await session.all<{ value: string | null }>(
+    `SELECT ${rawColumn ? `CAST(${ident(rawColumn)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(table.rawTable)} WHERE ${keyExpression(config.key)} = $1`,
+    [key],
+  );
+  const columnFound = table.columns.some((c) => c.name === request.column);
+  const cleanRow = await session.all<{ value: string | null }>(
+    `SELECT ${columnFound ? `CAST(${ident(request.column)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(table.cleanTable)} WHERE ${keyExpression(config.key)} = $1`,
+    [key],
+  );
+  if (rawRow.length === 0 && cleanRow.length === 0) {
+    throw new ErrataError('CELL_UNKNOWN', `no row with key ${key} in table ${config.name}, raw or clean`, {
+      hint: `The key is ${config.key.join(', ')}; check the value (keys are matched as text, e.g. 0042 is not 42).`,
+      data: { key },
+    });
+  }
+  if (!columnFound && !rawColumn && relevant.length === 0) {
+    throw new ErrataError('CELL_UNKNOWN', `table ${config.name} has no column "${request.column}"`, {
+      hint: `Columns: ${table.columns.map((c) => c.name).join(', ')}.`,
+      data: { column: request.column },
+    });
+  }
+  const byId = new Map(table.corrections.map((c) => [c.id, c]));
+  return {
+    table: config.name,
+    key,
+    column: request.column,
+    raw: { value: rawRow[0]?.value ?? null, column: rawColumn, rowFound: rawRow.length > 0 },
+    clean: { value: cleanRow[0]?.value ?? null, rowFound: cleanRow.length > 0, columnFound },
+    events: relevant.map((e) => {
+      const correction = byId.get(e.correction)!;
+      const audit = auditOf(correction, notes, origins);
+      const step = correction.steps[e.step - 1];
+      return {
+        correction: e.correction,
+        file: correction.file,
+        step: e.step,
+        stepKind: step.kind,
+        line: step.origin.line,
+        change: e.change,
+        column: e.column,
+        old: e.old,
+        new: e.new,
+        reason: step.kind === 'delete' ? `${correction.reason} (row deleted: ${step.reason})` : correction.reason,
+        approval: correction.approval ?? null,
+        note: audit.note ?? null,
+        introduced: audit.introduced ?? null,
+      };
+    }),
+  };
+}

@@ -1,0 +1,131 @@
+import path from 'node:path';
+import { ErrataError } from '../errors.js';
+import { applyColumnTypes, decideColumnTypes, type ColumnTyping, type ValueType } from '../engine/column-types.js';
+import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
+import { Session } from '../engine/session.js';
+import { ident } from '../engine/sql.js';
+import type { ProjectTree } from '../git/tree.js';
+import { loadCodebook, type Codebook } from '../project/codebook.js';
+import { loadConfig, selectTables, type ProjectConfig, type TableConfig } from '../project/config.js';
+import { applyCorrections, createLineageTable, type Conflict } from '../corrections/apply-corrections.js';
+import { loadCorrections } from '../corrections/load-corrections.js';
+import type { Correction } from '../corrections/types.js';
+import { loadRawTable, type RawInput } from './load-raw.js';
+
+export type BuildProgress =
+  | { phase: 'load'; table: string }
+  | { phase: 'correct'; table: string; correction: string; index: number; total: number }
+  | { phase: 'write'; table: string };
+
+export interface BuildOptions {
+  tree: ProjectTree;
+  /** Build one table; all when absent. */
+  table?: string;
+  /** Where DuckDB may spill and stage outputs; the only folder SQL can touch once inputs are loaded. */
+  workDir: string;
+  memoryLimit?: string;
+  onProgress?: (event: BuildProgress) => void;
+}
+
+/** One table's build, still held in the session: raw (as text), clean and lineage tables. */
+export interface TableBuild {
+  config: TableConfig;
+  codebook: Codebook | null;
+  inputs: RawInput[];
+  corrections: Correction[];
+  /** Blob ids of the correction files and codebook, for the manifest. */
+  sources: RawInput[];
+  conflicts: Conflict[];
+  /** Columns whose values still do not fit their (declared or evident) type after corrections. */
+  typeProblems: ColumnTyping[];
+  columns: ColumnInfo[];
+  rows: number;
+  rawTable: string;
+  cleanTable: string;
+  lineageTable: string;
+}
+
+export interface ProjectBuild {
+  session: Session;
+  config: ProjectConfig;
+  tables: TableBuild[];
+  conflicts: Conflict[];
+}
+
+/**
+ * raw + corrections → clean, for each table, in one DuckDB session: load every delivery as text,
+ * decide types over whole columns, lock the engine down, then apply the corrections with lineage.
+ * Nothing is written here; see `writeBuildOutputs`. The caller closes `session`.
+ */
+export async function buildProject(options: BuildOptions): Promise<ProjectBuild> {
+  const { tree } = options;
+  const config = await loadConfig(tree);
+  const tables = selectTables(config, options.table);
+  if (tables.length === 0) {
+    throw new ErrataError('PROJECT_INVALID', 'errata.yaml declares no tables yet', {
+      hint: 'Add a table under `tables:` with its raw path and key (the comment at the top of errata.yaml shows how).',
+      data: { file: 'errata.yaml' },
+    });
+  }
+  const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit });
+  try {
+    const prepared: Array<{ table: TableConfig; codebook: Codebook | null; inputs: RawInput[]; corrections: Correction[]; sources: RawInput[] }> = [];
+    for (const table of tables) {
+      options.onProgress?.({ phase: 'load', table: table.name });
+      const codebook = await loadCodebook(tree, table.codebook);
+      const corrections = await loadCorrections(tree, table.corrections);
+      const { inputs } = await loadRawTable(session, tree, table, rawName(table));
+      const sources: RawInput[] = [];
+      if (codebook) sources.push({ path: table.codebook, blob: await tree.blobId(table.codebook) });
+      for (const c of corrections) sources.push({ path: c.file, blob: await tree.blobId(c.file) });
+      prepared.push({ table, codebook, inputs, corrections, sources });
+    }
+    await session.lockDown([options.workDir]);
+
+    const builds: TableBuild[] = [];
+    for (const { table, codebook, inputs, corrections, sources } of prepared) {
+      const declared = declaredTypes(codebook);
+      const clean = cleanName(table);
+      const lineage = lineageName(table);
+      await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table))}`);
+      await applyColumnTypes(session, clean, await decideColumnTypes(session, clean, table.key, declared));
+      await createLineageTable(session, lineage);
+      const conflicts = await applyCorrections(session, corrections, {
+        table: clean,
+        key: table.key,
+        lineage,
+        onStep: (e) => options.onProgress?.({ phase: 'correct', table: table.name, correction: e.correction, index: e.index, total: e.total }),
+      });
+      // Corrections may have made a text column fit its type (e.g. after sentinels became missing).
+      const finalTypes = await decideColumnTypes(session, clean, table.key, declared);
+      await applyColumnTypes(session, clean, finalTypes);
+      const rows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(clean)}`);
+      builds.push({
+        config: table,
+        codebook,
+        inputs,
+        corrections,
+        sources,
+        conflicts,
+        typeProblems: finalTypes.filter((t) => t.misfits > 0),
+        columns: await columnsOf(session, clean),
+        rows: Number(rows.n),
+        rawTable: rawName(table),
+        cleanTable: clean,
+        lineageTable: lineage,
+      });
+    }
+    return { session, config, tables: builds, conflicts: builds.flatMap((b) => b.conflicts) };
+  } catch (error) {
+    session.close();
+    throw error;
+  }
+}
+
+function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {
+  return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as ValueType]));
+}
+
+export const rawName = (table: TableConfig) => `raw_${table.name}`;
+export const cleanName = (table: TableConfig) => `clean_${table.name}`;
+export const lineageName = (table: TableConfig) => `lineage_${table.name}`;

@@ -1,0 +1,25 @@
+import path from 'node:path';
+import { ErrataError } from '../errors.js';
+import { findRepoRoot } from '../git/repo.js';
+import { RevisionTree, WorkingTree, type ProjectTree } from '../git/tree.js';
+
+/** Locate the data project (the git repository holding errata.yaml) from the current folder. */
+export async function projectRoot(start = process.cwd()): Promise<string> {
+  const root = await findRepoRoot(start);
+  if (!root) {
+    throw new ErrataError('PROJECT_NOT_FOUND', `${path.resolve(start)} is not inside a git repository`, {
+      hint: 'Run errata inside a data project, or create one with `errata init DIR`.',
+    });
+  }
+  return root;
+}
+
+/** The working tree, or the project as it stood at a revision. */
+export async function projectTree(root: string, revision?: string): Promise<ProjectTree> {
+  if (!revision) return new WorkingTree(root);
+  return RevisionTree.at(root, revision, path.join(root, '.errata', 'cache', 'blobs'));
+}
+
+export function workDir(root: string): string {
+  return path.join(root, '.errata', 'tmp');
+}

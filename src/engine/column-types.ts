@@ -1,0 +1,147 @@
+import type { Session } from './session.js';
+import { ident } from './sql.js';
+import { keyExpression } from './keys.js';
+
+/** The value types errata works with, in Frictionless Table Schema's names. */
+export type ValueType = 'string' | 'integer' | 'number' | 'boolean' | 'date';
+
+export const SQL_TYPE: Record<ValueType, string> = {
+  string: 'VARCHAR',
+  integer: 'BIGINT',
+  number: 'DOUBLE',
+  boolean: 'BOOLEAN',
+  date: 'DATE',
+};
+
+/**
+ * What text counts as each type. Written out rather than left to TRY_CAST, which accepts " 12",
+ * "12.0" as an integer and "1e3" as 1000: a value must look like its type to take it. A leading zero
+ * ("007") makes a value a code, not a number, so it keeps its text.
+ */
+const TEXT_FITS: Record<Exclude<ValueType, 'string'>, (v: string) => string> = {
+  integer: (v) => `(regexp_full_match(${v}, '-?(0|[1-9][0-9]{0,17})'))`,
+  number: (v) => `(regexp_full_match(${v}, '-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?') AND TRY_CAST(${v} AS DOUBLE) IS NOT NULL)`,
+  boolean: (v) => `(lower(${v}) IN ('true', 'false'))`,
+  date: (v) => `(regexp_full_match(${v}, '[0-9]{4}-[0-9]{2}-[0-9]{2}') AND TRY_CAST(${v} AS DATE) IS NOT NULL)`,
+};
+
+/** SQL that is true when a text value fits `type` (always true for string). */
+export function fitsTypeSql(valueSql: string, type: ValueType): string {
+  return type === 'string' ? 'true' : TEXT_FITS[type](valueSql);
+}
+
+/**
+ * SQL converting text that fits `type` into that type. TRY_CAST because SQL does not promise to
+ * evaluate a guarding condition first; callers check fit separately.
+ */
+export function castTextSql(valueSql: string, type: ValueType): string {
+  if (type === 'boolean') return `(lower(${valueSql}) = 'true')`;
+  return `TRY_CAST(${valueSql} AS ${SQL_TYPE[type]})`;
+}
+
+export interface ColumnTyping {
+  column: string;
+  /** The type the column takes in the build. */
+  type: ValueType;
+  /** The type the codebook declares, if any. */
+  declared?: ValueType;
+  /** Non-missing values that do not fit the declared type (or, undeclared, the type most values fit). */
+  misfits: number;
+  /** The type the misfits stop the column from taking. */
+  wanted?: ValueType;
+  examples: Array<{ key: string; value: string }>;
+}
+
+/**
+ * Detection (unlike a declared type) never changes how a value is written: a column becomes a number
+ * only if every value is a whole number or prints back exactly as delivered, so "1.50" or "1e3" keep
+ * their text.
+ */
+const DETECTS_AS: Record<Exclude<ValueType, 'string'>, (v: string) => string> = {
+  ...TEXT_FITS,
+  number: (v) => `(${TEXT_FITS.integer(v)} OR (${TEXT_FITS.number(v)} AND CAST(TRY_CAST(${v} AS DOUBLE) AS VARCHAR) = ${v}))`,
+};
+
+const DETECTION_ORDER: Exclude<ValueType, 'string'>[] = ['integer', 'number', 'boolean', 'date'];
+
+/** Share of values that must fit a type before the rest are reported as "stored as text". */
+const MOSTLY = 0.9;
+
+/**
+ * Decide each text column's type from every value in it (never a sample, so a bad value in the last
+ * row is seen the same way on every run). A declared type is taken only when every value fits it; when
+ * some do not, the column stays text and the misfits are reported for a correction to deal with.
+ */
+export async function decideColumnTypes(
+  session: Session,
+  table: string,
+  key: readonly string[],
+  declared: ReadonlyMap<string, ValueType>,
+): Promise<ColumnTyping[]> {
+  const columns = await session.all<{ column_name: string; data_type: string }>(
+    `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
+    [table],
+  );
+  const text = columns.filter((c) => c.data_type === 'VARCHAR').map((c) => c.column_name);
+  if (text.length === 0) return [];
+  const aggregates = text.flatMap((name, i) => {
+    const v = ident(name);
+    return [
+      `count(${v}) AS n${i}`,
+      ...DETECTION_ORDER.map((type) => `count(*) FILTER (WHERE ${TEXT_FITS[type](v)}) AS ${type}${i}`),
+      `count(*) FILTER (WHERE ${DETECTS_AS.number(v)}) AS exactnumber${i}`,
+    ];
+  });
+  const counts = await session.one<Record<string, bigint>>(`SELECT ${aggregates.join(',\n')} FROM ${ident(table)}`);
+  const result: ColumnTyping[] = [];
+  for (const [i, column] of text.entries()) {
+    const n = Number(counts[`n${i}`]);
+    const fits = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type}${i}`]);
+    const detects = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type === 'number' ? 'exactnumber' : type}${i}`]);
+    const wantedType = declared.get(column);
+    let typing: ColumnTyping;
+    if (wantedType) {
+      const misfits = wantedType === 'string' ? 0 : n - fits(wantedType);
+      typing = { column, declared: wantedType, type: misfits === 0 ? wantedType : 'string', misfits, wanted: misfits ? wantedType : undefined, examples: [] };
+    } else {
+      const full = n > 0 ? DETECTION_ORDER.find((type) => detects(type) === n) : undefined;
+      const mostly = full ? undefined : DETECTION_ORDER.find((type) => n > 0 && fits(type) >= MOSTLY * n);
+      typing = {
+        column,
+        type: full ?? 'string',
+        misfits: mostly ? n - fits(mostly) : 0,
+        wanted: mostly,
+        examples: [],
+      };
+    }
+    if (typing.misfits > 0 && typing.wanted) {
+      typing.examples = await misfitExamples(session, table, key, column, typing.wanted);
+    }
+    result.push(typing);
+  }
+  return result;
+}
+
+async function misfitExamples(session: Session, table: string, key: readonly string[], column: string, type: ValueType) {
+  const v = ident(column);
+  return session.all<{ key: string; value: string }>(`
+    SELECT ${keyExpression(key)} AS key, ${v} AS value FROM ${ident(table)}
+    WHERE ${v} IS NOT NULL AND NOT ${fitsTypeSql(v, type)}
+    ORDER BY ${key.map(ident).join(', ')} LIMIT 5`);
+}
+
+/** Cast the columns whose decided type is not text, in one rewrite of the table. */
+export async function applyColumnTypes(session: Session, table: string, typings: readonly ColumnTyping[]): Promise<void> {
+  const casts = typings.filter((t) => t.type !== 'string').map((t) => `${castTextSql(ident(t.column), t.type)} AS ${ident(t.column)}`);
+  if (casts.length === 0) return;
+  await session.run(`CREATE OR REPLACE TABLE ${ident(table)} AS SELECT * REPLACE (${casts.join(', ')}) FROM ${ident(table)}`);
+}
+
+/** The errata type of a DuckDB column type. */
+export function valueTypeOf(sqlType: string): ValueType {
+  if (/^(BIGINT|INTEGER|SMALLINT|TINYINT|HUGEINT|UBIGINT|UINTEGER|USMALLINT|UTINYINT)$/.test(sqlType)) return 'integer';
+  if (/^(DOUBLE|FLOAT|REAL|DECIMAL.*)$/.test(sqlType)) return 'number';
+  if (sqlType === 'BOOLEAN') return 'boolean';
+  if (sqlType === 'DATE') return 'date';
+  return 'string';
+}

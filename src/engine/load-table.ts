@@ -1,0 +1,259 @@
+import { openSync, readSync, closeSync } from 'node:fs';
+import path from 'node:path';
+import { ErrataError } from '../errors.js';
+import type { Session } from './session.js';
+import { ident, identList, literal } from './sql.js';
+
+export type FileFormat = 'csv' | 'tsv' | 'parquet' | 'jsonl';
+
+export interface InputFile {
+  /** Repository-relative path, used in every message. */
+  name: string;
+  /** Where DuckDB reads it from. */
+  localPath: string;
+  format: FileFormat;
+  delimiter?: string;
+}
+
+const EXTENSIONS: Record<string, FileFormat> = {
+  '.csv': 'csv',
+  '.txt': 'csv',
+  '.tsv': 'tsv',
+  '.tab': 'tsv',
+  '.parquet': 'parquet',
+  '.jsonl': 'jsonl',
+  '.ndjson': 'jsonl',
+  '.json': 'jsonl',
+};
+
+/** The format a file is read as: the one configured, else by its extension; null if not a data file. */
+export function formatOf(filename: string, configured?: FileFormat): FileFormat | null {
+  if (configured) return configured;
+  return EXTENSIONS[path.extname(filename).toLowerCase()] ?? null;
+}
+
+/**
+ * Load one input file into table `target` exactly as delivered. CSV, TSV and JSON lines arrive as text
+ * in every column, so nothing is converted (or lost) before type detection has looked at every row;
+ * Parquet keeps the types its writer declared.
+ */
+export async function loadFile(session: Session, input: InputFile, target: string): Promise<string[]> {
+  switch (input.format) {
+    case 'csv':
+    case 'tsv':
+      return loadDelimited(session, input, target);
+    case 'parquet':
+      return loadParquet(session, input, target);
+    case 'jsonl':
+      return loadJsonLines(session, input, target);
+  }
+}
+
+async function loadDelimited(session: Session, input: InputFile, target: string): Promise<string[]> {
+  const delimiter = input.delimiter ?? (input.format === 'tsv' ? '\t' : ',');
+  const header = readHeader(input, delimiter);
+  const columns = header.map((name) => `${literal(name)}: 'VARCHAR'`).join(', ');
+  const sql = `CREATE OR REPLACE TABLE ${ident(target)} AS
+    SELECT * FROM read_csv(${literal(input.localPath)},
+      header = true, auto_detect = false, columns = {${columns}},
+      delim = ${literal(delimiter)}, quote = '"', escape = '"',
+      strict_mode = true, allow_quoted_nulls = false, null_padding = false)`;
+  try {
+    await session.runRaw(sql);
+  } catch (error) {
+    throw csvError(input, (error as Error).message);
+  }
+  return header;
+}
+
+/** DuckDB's CSV messages carry the line; keep it, name the file, and say what to do. */
+function csvError(input: InputFile, message: string): ErrataError {
+  const line = Number(/CSV Error on Line: (\d+)/.exec(message)?.[1] ?? 0) || undefined;
+  const columns = /Expected Number of Columns: (\d+) Found: (\d+)/.exec(message);
+  const data = { file: input.name, line };
+  if (columns) {
+    return new ErrataError('CSV_MALFORMED', `row has ${columns[2]} fields where the header has ${columns[1]}`, {
+      hint: 'Ragged row: look for a missing or extra delimiter, or a field whose quotes are not closed, at that line. Deliver a corrected file; raw files are never edited in place.',
+      data,
+    });
+  }
+  if (/unterminated quote/i.test(message)) {
+    return new ErrataError('CSV_MALFORMED', 'a quoted field is never closed', {
+      hint: 'Find the quote opened at that line and close it (a quote inside a field is written twice: "").',
+      data,
+    });
+  }
+  if (/unicode|utf-?8|encod/i.test(message)) {
+    return new ErrataError('ENCODING', 'the file is not valid UTF-8', {
+      hint: 'Re-export the file as UTF-8 (for example with iconv -f latin1 -t utf-8) and deliver it as a new raw file.',
+      data,
+    });
+  }
+  return new ErrataError('CSV_MALFORMED', message.split('\n').filter((l) => l && !l.startsWith('Original Line') && !l.startsWith('CSV Error'))[0] ?? message, {
+    hint: 'Check the file at that line: delimiter, quoting and line endings.',
+    data,
+  });
+}
+
+const HEADER_PROBE_BYTES = 1 << 20;
+
+/**
+ * The header row, parsed here rather than by DuckDB so that empty and duplicate names are errors
+ * (DuckDB would quietly invent names such as "column1" or "a_1").
+ */
+export function readHeader(input: InputFile, delimiter: string): string[] {
+  const fd = openSync(input.localPath, 'r');
+  const buffer = Buffer.alloc(HEADER_PROBE_BYTES);
+  const length = readSync(fd, buffer, 0, HEADER_PROBE_BYTES, 0);
+  closeSync(fd);
+  let bytes = buffer.subarray(0, length);
+  if (bytes[0] === 0xef && bytes[1] === 0xbb && bytes[2] === 0xbf) bytes = bytes.subarray(3);
+  if (bytes.length === 0) {
+    throw new ErrataError('CSV_HEADER', 'the file is empty: no header row', {
+      hint: 'Deliver the file with a header row naming each column.',
+      data: { file: input.name, line: 1 },
+    });
+  }
+  if ((bytes[0] === 0xff && bytes[1] === 0xfe) || (bytes[0] === 0xfe && bytes[1] === 0xff)) {
+    throw new ErrataError('ENCODING', 'the file is UTF-16, not UTF-8', {
+      hint: 'Re-export the file as UTF-8 and deliver it as a new raw file.',
+      data: { file: input.name, line: 1 },
+    });
+  }
+  const names = parseFirstRecord(bytes.toString('latin1'), delimiter);
+  let headerText: string;
+  try {
+    headerText = new TextDecoder('utf-8', { fatal: true }).decode(Buffer.from(names.raw, 'latin1'));
+  } catch {
+    throw new ErrataError('ENCODING', 'the header row is not valid UTF-8', {
+      hint: 'Re-export the file as UTF-8 (for example with iconv -f latin1 -t utf-8) and deliver it as a new raw file.',
+      data: { file: input.name, line: 1 },
+    });
+  }
+  const header = parseFirstRecord(headerText, delimiter).fields;
+  const seen = new Map<string, number>();
+  header.forEach((name, index) => {
+    if (name.trim() === '') {
+      throw new ErrataError('CSV_HEADER', `column ${index + 1} of the header has no name`, {
+        hint: 'Every column needs a name in the header row; deliver a file with the name filled in, or name it in the codebook.',
+        data: { file: input.name, line: 1 },
+      });
+    }
+    if (seen.has(name)) {
+      throw new ErrataError('CSV_HEADER', `the header names "${name}" twice (columns ${seen.get(name)! + 1} and ${index + 1})`, {
+        hint: 'Column names must be unique; deliver a file with distinct names.',
+        data: { file: input.name, line: 1 },
+      });
+    }
+    seen.set(name, index);
+  });
+  return header;
+}
+
+/** Split the first record of delimited text, honouring double-quoted fields that may span lines. */
+function parseFirstRecord(text: string, delimiter: string): { fields: string[]; raw: string } {
+  const fields: string[] = [];
+  let field = '';
+  let quoted = false;
+  let i = 0;
+  for (; i < text.length; i += 1) {
+    const ch = text[i];
+    if (quoted) {
+      if (ch === '"' && text[i + 1] === '"') {
+        field += '"';
+        i += 1;
+      } else if (ch === '"') quoted = false;
+      else field += ch;
+    } else if (ch === '"' && field === '') quoted = true;
+    else if (ch === delimiter) {
+      fields.push(field);
+      field = '';
+    } else if (ch === '\n' || ch === '\r') break;
+    else field += ch;
+  }
+  fields.push(field);
+  return { fields, raw: text.slice(0, i) };
+}
+
+async function loadParquet(session: Session, input: InputFile, target: string): Promise<string[]> {
+  try {
+    await session.runRaw(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(input.localPath)})`);
+  } catch (error) {
+    throw new ErrataError('INPUT_FORMAT', `not a readable Parquet file: ${(error as Error).message.split('\n')[0]}`, {
+      hint: 'Check that the file is complete Parquet (not CSV renamed), or set `format:` for the table in errata.yaml.',
+      data: { file: input.name },
+    });
+  }
+  return columnNames(session, target);
+}
+
+/**
+ * JSON lines: every key seen anywhere in the file becomes a column, in order of first appearance, and
+ * every value arrives as text, so detection sees the whole file rather than a sample.
+ */
+async function loadJsonLines(session: Session, input: InputFile, target: string): Promise<string[]> {
+  const staging = `${target}__json`;
+  try {
+    await session.runRaw(`CREATE OR REPLACE TEMP TABLE ${ident(staging)} AS
+      SELECT row_number() OVER () AS line, json FROM read_ndjson_objects(${literal(input.localPath)})`);
+  } catch (error) {
+    const message = (error as Error).message;
+    const line = Number(/line (\d+)/i.exec(message)?.[1] ?? 0) || undefined;
+    throw new ErrataError('INPUT_FORMAT', `not valid JSON lines: ${message.split('\n')[0]}`, {
+      hint: 'Each line must hold one JSON object; fix or re-export the file.',
+      data: { file: input.name, line },
+    });
+  }
+  const notObjects = await session.all<{ line: bigint }>(
+    `SELECT line FROM ${ident(staging)} WHERE json_type(json) <> 'OBJECT' ORDER BY line LIMIT 1`,
+  );
+  if (notObjects.length) {
+    throw new ErrataError('INPUT_FORMAT', 'a line holds a JSON value that is not an object', {
+      hint: 'Each line must be one object such as {"id": 1, "age": 34}.',
+      data: { file: input.name, line: Number(notObjects[0].line) },
+    });
+  }
+  const keys = await session.all<{ key: string }>(`
+    SELECT key FROM (
+      SELECT unnest(json_keys(json)) AS key, line, generate_subscripts(json_keys(json), 1) AS pos
+      FROM ${ident(staging)})
+    GROUP BY key ORDER BY min(line), min(pos)`);
+  if (keys.length === 0) {
+    throw new ErrataError('INPUT_FORMAT', 'the file holds no records', { hint: 'Deliver a file with at least one object per line.', data: { file: input.name } });
+  }
+  const selects = keys.map(({ key }) => `json_extract_string(json, ${literal(`$."${key.replaceAll('"', '\\"')}"`)}) AS ${ident(key)}`);
+  await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT ${selects.join(', ')} FROM ${ident(staging)} ORDER BY line`);
+  await session.run(`DROP TABLE ${ident(staging)}`);
+  return keys.map((k) => k.key);
+}
+
+export async function columnNames(session: Session, table: string): Promise<string[]> {
+  const rows = await session.all<{ column_name: string }>(
+    `SELECT column_name FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
+    [table],
+  );
+  return rows.map((r) => r.column_name);
+}
+
+export interface ColumnInfo {
+  name: string;
+  /** DuckDB type name, e.g. VARCHAR, BIGINT, DOUBLE. */
+  type: string;
+}
+
+export async function columnsOf(session: Session, table: string): Promise<ColumnInfo[]> {
+  const rows = await session.all<{ column_name: string; data_type: string }>(
+    `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
+    [table],
+  );
+  return rows.map((r) => ({ name: r.column_name, type: r.data_type }));
+}
+
+/** Stack several loaded deliveries into one table, matching columns by name. */
+export async function stackTables(session: Session, parts: readonly string[], target: string): Promise<void> {
+  const union = parts.map((p) => `SELECT * FROM ${ident(p)}`).join(' UNION ALL BY NAME ');
+  await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS ${union}`);
+  for (const p of parts) if (p !== target) await session.run(`DROP TABLE ${ident(p)}`);
+}
+
+export { identList };

@@ -1,0 +1,216 @@
+import fs from 'node:fs';
+import path from 'node:path';
+import git from 'isomorphic-git';
+import { ErrataError } from '../errors.js';
+
+export interface Author {
+  name: string;
+  email: string;
+  /** Seconds since the epoch; pinned in tests and the demo so commit ids are reproducible. */
+  timestamp?: number;
+  timezoneOffset?: number;
+}
+
+export interface CommitInfo {
+  oid: string;
+  message: string;
+  author: { name: string; email: string; timestamp: number; timezoneOffset: number };
+  parents: string[];
+}
+
+/** The repository folder that holds `dir`, or null when `dir` is not inside one. */
+export async function findRepoRoot(dir: string): Promise<string | null> {
+  try {
+    return await git.findRoot({ fs, filepath: path.resolve(dir) });
+  } catch {
+    return null;
+  }
+}
+
+export async function initRepo(dir: string): Promise<void> {
+  await git.init({ fs, dir, defaultBranch: 'main' });
+}
+
+/**
+ * Stage every change under `dir` (new, modified and deleted files, respecting .gitignore) and commit.
+ * Returns the new commit id.
+ */
+export async function commitAll(dir: string, message: string, author: Author): Promise<string> {
+  const matrix = await git.statusMatrix({ fs, dir });
+  for (const [filepath, head, workdir, stage] of matrix) {
+    if (workdir === 0) {
+      if (head !== 0 || stage !== 0) await git.remove({ fs, dir, filepath });
+    } else if (head !== workdir || workdir !== stage) {
+      await git.add({ fs, dir, filepath });
+    }
+  }
+  return commitStaged(dir, message, author);
+}
+
+/** Stage exactly `paths` and commit them. */
+export async function commitPaths(dir: string, paths: readonly string[], message: string, author: Author): Promise<string> {
+  for (const filepath of paths) await git.add({ fs, dir, filepath });
+  return commitStaged(dir, message, author);
+}
+
+async function commitStaged(dir: string, message: string, author: Author): Promise<string> {
+  const who = {
+    name: author.name,
+    email: author.email,
+    ...(author.timestamp !== undefined ? { timestamp: author.timestamp, timezoneOffset: author.timezoneOffset ?? 0 } : {}),
+  };
+  return git.commit({ fs, dir, message, author: who, committer: who });
+}
+
+/** The configured user of this repository (git config user.name / user.email), if any. */
+export async function configuredAuthor(dir: string): Promise<{ name?: string; email?: string }> {
+  const name = (await git.getConfig({ fs, dir, path: 'user.name' })) as string | undefined;
+  const email = (await git.getConfig({ fs, dir, path: 'user.email' })) as string | undefined;
+  return { name, email };
+}
+
+/**
+ * Resolve a revision: a branch, tag, full or abbreviated commit id, HEAD, optionally followed by
+ * `~N` or `^` steps along first parents (what people type most; git's full revision grammar is not needed).
+ */
+export async function resolveRevision(dir: string, revision: string): Promise<string> {
+  const match = /^(.*?)((?:[~^]\d*)*)$/.exec(revision.trim());
+  const base = match?.[1] || 'HEAD';
+  const steps = match?.[2] ?? '';
+  let oid = await resolveBase(dir, base, revision);
+  for (const step of steps.match(/[~^]\d*/g) ?? []) {
+    const count = step.length > 1 ? Number(step.slice(1)) : 1;
+    const generations = step[0] === '~' ? count : 1;
+    const parentIndex = step[0] === '^' ? Math.max(count, 1) - 1 : 0;
+    for (let i = 0; i < generations; i += 1) {
+      const { commit } = await git.readCommit({ fs, dir, oid });
+      const parent = commit.parent[i === generations - 1 ? parentIndex : 0];
+      if (!parent) throw unknownRevision(revision, `it goes back further than the history`);
+      oid = parent;
+    }
+  }
+  return oid;
+}
+
+async function resolveBase(dir: string, base: string, revision: string): Promise<string> {
+  try {
+    return await git.resolveRef({ fs, dir, ref: base });
+  } catch {
+    /* not a ref name: try a commit id below */
+  }
+  if (/^[0-9a-f]{4,40}$/i.test(base)) {
+    try {
+      const oid = await git.expandOid({ fs, dir, oid: base.toLowerCase() });
+      await git.readCommit({ fs, dir, oid });
+      return oid;
+    } catch {
+      /* fall through to the error */
+    }
+  }
+  throw unknownRevision(revision, 'no branch, tag or commit has that name');
+}
+
+function unknownRevision(revision: string, why: string): ErrataError {
+  return new ErrataError('REVISION_UNKNOWN', `unknown revision "${revision}": ${why}`, {
+    hint: 'Give a branch, a tag, a commit id, or HEAD~N; `git log --oneline` lists commits.',
+    data: { commit: revision },
+  });
+}
+
+export interface BlobAt {
+  oid: string;
+  content: Uint8Array;
+}
+
+/** A file's content at a commit, or null when it does not exist there. */
+export async function readBlobAt(dir: string, commit: string, filepath: string): Promise<BlobAt | null> {
+  try {
+    const { oid, blob } = await git.readBlob({ fs, dir, oid: commit, filepath });
+    return { oid, content: blob };
+  } catch (error) {
+    if ((error as { code?: string }).code === 'NotFoundError') return null;
+    throw new ErrataError('GIT', `could not read ${filepath} at ${commit.slice(0, 7)}: ${(error as Error).message}`, {
+      data: { file: filepath, commit },
+      cause: error,
+    });
+  }
+}
+
+export interface TreeEntry {
+  path: string;
+  oid: string;
+  type: 'blob' | 'tree';
+}
+
+/** Every file under `prefix` at a commit, depth-first, sorted by path, with blob ids. */
+export async function listBlobsAt(dir: string, commit: string, prefix: string): Promise<TreeEntry[]> {
+  const clean = prefix.replace(/\/+$/, '');
+  const out: TreeEntry[] = [];
+  const visit = async (treePath: string): Promise<void> => {
+    let entries;
+    try {
+      entries = (await git.readTree({ fs, dir, oid: commit, filepath: treePath || undefined })).tree;
+    } catch (error) {
+      if ((error as { code?: string }).code === 'NotFoundError') return;
+      throw error;
+    }
+    for (const entry of entries) {
+      const full = treePath ? `${treePath}/${entry.path}` : entry.path;
+      if (entry.type === 'tree') await visit(full);
+      else if (entry.type === 'blob') out.push({ path: full, oid: entry.oid, type: 'blob' });
+    }
+  };
+  await visit(clean);
+  return out.sort((a, b) => (a.path < b.path ? -1 : a.path > b.path ? 1 : 0));
+}
+
+/** Commits reachable from `ref`, newest first. */
+export async function commitLog(dir: string, ref = 'HEAD'): Promise<CommitInfo[]> {
+  try {
+    const entries = await git.log({ fs, dir, ref });
+    return entries.map((e) => ({ oid: e.oid, message: e.commit.message, author: e.commit.author, parents: e.commit.parent }));
+  } catch (error) {
+    if ((error as { code?: string }).code === 'NotFoundError') return [];
+    throw error;
+  }
+}
+
+export interface PathHistory {
+  /** The first commit (oldest) in which the path exists with any content. */
+  added: CommitInfo;
+  /** The newest commit that changed the path's content. */
+  changed: CommitInfo;
+}
+
+/**
+ * For each path under `prefixes`, the commit that added it and the last one that changed it, along
+ * first parents. One tree read per commit and prefix, so it stays cheap with many corrections.
+ */
+export async function pathHistory(dir: string, prefixes: readonly string[], ref = 'HEAD'): Promise<Map<string, PathHistory>> {
+  const commits = (await commitLog(dir, ref)).reverse();
+  const history = new Map<string, PathHistory>();
+  const lastOid = new Map<string, string>();
+  for (const commit of commits) {
+    const present = new Set<string>();
+    for (const prefix of prefixes) {
+      for (const entry of await listBlobsAt(dir, commit.oid, prefix)) {
+        present.add(entry.path);
+        const known = history.get(entry.path);
+        if (!known) history.set(entry.path, { added: commit, changed: commit });
+        else if (lastOid.get(entry.path) !== entry.oid) known.changed = commit;
+        lastOid.set(entry.path, entry.oid);
+      }
+    }
+    for (const p of [...lastOid.keys()]) if (!present.has(p)) lastOid.delete(p);
+  }
+  return history;
+}
+
+export async function hasCommits(dir: string): Promise<boolean> {
+  try {
+    await git.resolveRef({ fs, dir, ref: 'HEAD' });
+    return true;
+  } catch {
+    return false;
+  }
+}

@@ -1,0 +1,127 @@
+import { createHash } from 'node:crypto';
+import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
+
+/**
+ * The project's files as they stand somewhere: the working tree, or a commit read straight from git
+ * objects (no checkout, so it works in a bare clone). Paths are repository-relative with forward slashes.
+ */
+export interface ProjectTree {
+  /** "working tree" or the abbreviated commit id. */
+  readonly label: string;
+  /** The commit id, or null for the working tree. */
+  readonly commit: string | null;
+  readonly root: string;
+  read(filepath: string): Promise<Buffer | null>;
+  /** Files under a folder (recursively), sorted by path. */
+  list(folder: string): Promise<string[]>;
+  /** A path on disk holding the file's content, for DuckDB to read. */
+  localPath(filepath: string): Promise<string>;
+  /** The git blob id of the file's content: the same id git itself gives it. */
+  blobId(filepath: string): Promise<string>;
+}
+
+export class WorkingTree implements ProjectTree {
+  readonly label = 'working tree';
+  readonly commit = null;
+  constructor(readonly root: string) {}
+
+  async read(filepath: string): Promise<Buffer | null> {
+    const full = path.join(this.root, filepath);
+    return existsSync(full) && statSync(full).isFile() ? readFileSync(full) : null;
+  }
+
+  async list(folder: string): Promise<string[]> {
+    const out: string[] = [];
+    const visit = (rel: string) => {
+      const full = path.join(this.root, rel);
+      if (!existsSync(full)) return;
+      if (statSync(full).isFile()) {
+        out.push(rel);
+        return;
+      }
+      for (const name of readdirSync(full)) {
+        if (name.startsWith('.')) continue;
+        visit(rel ? `${rel}/${name}` : name);
+      }
+    };
+    visit(folder.replace(/\/+$/, ''));
+    return out.sort(byPath);
+  }
+
+  async localPath(filepath: string): Promise<string> {
+    return path.join(this.root, filepath);
+  }
+
+  async blobId(filepath: string): Promise<string> {
+    return gitBlobIdOfFile(path.join(this.root, filepath));
+  }
+}
+
+export class RevisionTree implements ProjectTree {
+  readonly label: string;
+  private constructor(
+    readonly root: string,
+    readonly commit: string,
+    private readonly blobDir: string,
+  ) {
+    this.label = commit.slice(0, 7);
+  }
+
+  /** `blobDir` is where blobs are unpacked for DuckDB, named by blob id so they are never stale. */
+  static async at(root: string, revision: string, blobDir: string): Promise<RevisionTree> {
+    const commit = await resolveRevision(root, revision);
+    return new RevisionTree(root, commit, blobDir);
+  }
+
+  async read(filepath: string): Promise<Buffer | null> {
+    const blob = await readBlobAt(this.root, this.commit, filepath);
+    return blob ? Buffer.from(blob.content) : null;
+  }
+
+  async list(folder: string): Promise<string[]> {
+    const clean = folder.replace(/\/+$/, '');
+    const direct = await readBlobAt(this.root, this.commit, clean).catch(() => null);
+    if (direct) return [clean];
+    return (await listBlobsAt(this.root, this.commit, clean))
+      .map((e) => e.path)
+      .filter((p) => !p.split('/').some((part) => part.startsWith('.')));
+  }
+
+  async localPath(filepath: string): Promise<string> {
+    const blob = await readBlobAt(this.root, this.commit, filepath);
+    if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
+    const target = path.join(this.blobDir, `${blob.oid}${path.extname(filepath)}`);
+    if (!existsSync(target)) {
+      mkdirSync(this.blobDir, { recursive: true });
+      const temp = `${target}.${process.pid}.tmp`;
+      writeFileSync(temp, blob.content);
+      renameSync(temp, target);
+    }
+    return target;
+  }
+
+  async blobId(filepath: string): Promise<string> {
+    const blob = await readBlobAt(this.root, this.commit, filepath);
+    if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
+    return blob.oid;
+  }
+}
+
+function byPath(a: string, b: string): number {
+  return a < b ? -1 : a > b ? 1 : 0;
+}
+
+/** git's blob id: sha1 over "blob <size>\0" and the content, streamed so large files stay cheap. */
+export async function gitBlobIdOfFile(file: string): Promise<string> {
+  const size = statSync(file).size;
+  const hash = createHash('sha1');
+  hash.update(`blob ${size}\0`);
+  for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);
+  return hash.digest('hex');
+}
+
+export function gitBlobIdOf(content: Uint8Array): string {
+  return createHash('sha1').update(`blob ${content.length}\0`).update(content).digest('hex');
+}
