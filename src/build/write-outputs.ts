@@ -1,10 +1,11 @@
-import { copyFileSync, existsSync, mkdirSync, readFileSync, renameSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdirSync, readFileSync, readdirSync, renameSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
 import { randomBytes } from 'node:crypto';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { ident, literal } from '../engine/sql.js';
 import { keyOrder } from './order.js';
 import { VERSION } from '../version.js';
+import { faultPoint } from '../fault.js';
 import type { ProjectBuild, TableBuild } from './build-project.js';
 import { sha256Of, sha256OfFile } from './hash.js';
 import { MANIFEST_FILE, parseManifest, renderManifest, type Manifest, type TableManifest } from './manifest.js';
@@ -24,6 +25,7 @@ export interface StagedOutputs {
  * by key, numbers as DuckDB prints them (shortest text that reads back to the same value).
  */
 export async function stageOutputs(build: ProjectBuild, workDir: string, root: string): Promise<StagedOutputs> {
+  removeAbandonedStages(workDir);
   const stageDir = path.join(workDir, `stage-${process.pid}-${randomBytes(4).toString('hex')}`);
   mkdirSync(stageDir, { recursive: true });
   const files = new Map<string, string>();
@@ -31,6 +33,7 @@ export async function stageOutputs(build: ProjectBuild, workDir: string, root: s
   try {
     for (const table of build.tables) {
       manifest.tables[table.config.name] = await stageTable(build, table, stageDir, files);
+      faultPoint('staged-table');
     }
     const manifestFile = path.join(stageDir, 'manifest.json');
     writeFileSync(manifestFile, renderManifest(manifest));
@@ -40,6 +43,25 @@ export async function stageOutputs(build: ProjectBuild, workDir: string, root: s
     throw error;
   }
   return { stageDir, files, manifest };
+}
+
+/** Staging folders left by a build that was killed: their process is gone, so nothing will finish them. */
+function removeAbandonedStages(workDir: string): void {
+  if (!existsSync(workDir)) return;
+  for (const name of readdirSync(workDir)) {
+    const pid = Number(/^stage-(\d+)-/.exec(name)?.[1]);
+    if (!pid || pid === process.pid || processAlive(pid)) continue;
+    rmSync(path.join(workDir, name), { recursive: true, force: true });
+  }
+}
+
+function processAlive(pid: number): boolean {
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (error) {
+    return (error as NodeJS.ErrnoException).code === 'EPERM';
+  }
 }
 
 /** Entries of other tables in the current manifest survive a build of one table. */
@@ -88,6 +110,7 @@ export function publishOutputs(staged: StagedOutputs, root: string): string[] {
       mkdirSync(path.dirname(target), { recursive: true });
       moveInto(staged.files.get(relative)!, target);
       written.push(relative);
+      faultPoint(`published-${written.length}`);
     }
   } catch (error) {
     throw new ErrataError('OUTPUT_WRITE', `could not put outputs in place: ${(error as Error).message}`, {
