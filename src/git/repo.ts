@@ -18,8 +18,21 @@ export interface CommitInfo {
   parents: string[];
 }
 
-/** The repository folder that holds `dir`, or null when `dir` is not inside one. */
+/**
+ * isomorphic-git options for a repository folder: a work tree with .git inside, or a bare repository
+ * (reviews and diffs run in bare clones on CI servers).
+ */
+function at(dir: string): { fs: typeof fs; dir: string; gitdir?: string } {
+  return isBare(dir) ? { fs, dir, gitdir: dir } : { fs, dir };
+}
+
+export function isBare(dir: string): boolean {
+  return !fs.existsSync(path.join(dir, '.git')) && fs.existsSync(path.join(dir, 'HEAD')) && fs.existsSync(path.join(dir, 'objects'));
+}
+
+/** The repository folder that holds `dir` (a bare repository is its own root), or null. */
 export async function findRepoRoot(dir: string): Promise<string | null> {
+  if (isBare(path.resolve(dir))) return path.resolve(dir);
   try {
     return await git.findRoot({ fs, filepath: path.resolve(dir) });
   } catch {
@@ -28,7 +41,7 @@ export async function findRepoRoot(dir: string): Promise<string | null> {
 }
 
 export async function initRepo(dir: string): Promise<void> {
-  await git.init({ fs, dir, defaultBranch: 'main' });
+  await git.init({ ...at(dir), defaultBranch: 'main' });
 }
 
 /**
@@ -36,12 +49,12 @@ export async function initRepo(dir: string): Promise<void> {
  * Returns the new commit id.
  */
 export async function commitAll(dir: string, message: string, author: Author): Promise<string> {
-  const matrix = await git.statusMatrix({ fs, dir });
+  const matrix = await git.statusMatrix(at(dir));
   for (const [filepath, head, workdir, stage] of matrix) {
     if (workdir === 0) {
-      if (head !== 0 || stage !== 0) await git.remove({ fs, dir, filepath });
+      if (head !== 0 || stage !== 0) await git.remove({ ...at(dir), filepath });
     } else if (head !== workdir || workdir !== stage) {
-      await git.add({ fs, dir, filepath });
+      await git.add({ ...at(dir), filepath });
     }
   }
   return commitStaged(dir, message, author);
@@ -49,7 +62,7 @@ export async function commitAll(dir: string, message: string, author: Author): P
 
 /** Stage exactly `paths` and commit them. */
 export async function commitPaths(dir: string, paths: readonly string[], message: string, author: Author): Promise<string> {
-  for (const filepath of paths) await git.add({ fs, dir, filepath });
+  for (const filepath of paths) await git.add({ ...at(dir), filepath });
   return commitStaged(dir, message, author);
 }
 
@@ -59,13 +72,13 @@ async function commitStaged(dir: string, message: string, author: Author): Promi
     email: author.email,
     ...(author.timestamp !== undefined ? { timestamp: author.timestamp, timezoneOffset: author.timezoneOffset ?? 0 } : {}),
   };
-  return git.commit({ fs, dir, message, author: who, committer: who });
+  return git.commit({ ...at(dir), message, author: who, committer: who });
 }
 
 /** The configured user of this repository (git config user.name / user.email), if any. */
 export async function configuredAuthor(dir: string): Promise<{ name?: string; email?: string }> {
-  const name = (await git.getConfig({ fs, dir, path: 'user.name' })) as string | undefined;
-  const email = (await git.getConfig({ fs, dir, path: 'user.email' })) as string | undefined;
+  const name = (await git.getConfig({ ...at(dir), path: 'user.name' })) as string | undefined;
+  const email = (await git.getConfig({ ...at(dir), path: 'user.email' })) as string | undefined;
   return { name, email };
 }
 
@@ -83,7 +96,7 @@ export async function resolveRevision(dir: string, revision: string): Promise<st
     const generations = step[0] === '~' ? count : 1;
     const parentIndex = step[0] === '^' ? Math.max(count, 1) - 1 : 0;
     for (let i = 0; i < generations; i += 1) {
-      const { commit } = await git.readCommit({ fs, dir, oid });
+      const { commit } = await git.readCommit({ ...at(dir), oid });
       const parent = commit.parent[i === generations - 1 ? parentIndex : 0];
       if (!parent) throw unknownRevision(revision, `it goes back further than the history`);
       oid = parent;
@@ -94,14 +107,14 @@ export async function resolveRevision(dir: string, revision: string): Promise<st
 
 async function resolveBase(dir: string, base: string, revision: string): Promise<string> {
   try {
-    return await git.resolveRef({ fs, dir, ref: base });
+    return await git.resolveRef({ ...at(dir), ref: base });
   } catch {
     /* not a ref name: try a commit id below */
   }
   if (/^[0-9a-f]{4,40}$/i.test(base)) {
     try {
-      const oid = await git.expandOid({ fs, dir, oid: base.toLowerCase() });
-      await git.readCommit({ fs, dir, oid });
+      const oid = await git.expandOid({ ...at(dir), oid: base.toLowerCase() });
+      await git.readCommit({ ...at(dir), oid });
       return oid;
     } catch {
       /* fall through to the error */
@@ -125,7 +138,7 @@ export interface BlobAt {
 /** A file's content at a commit, or null when it does not exist there. */
 export async function readBlobAt(dir: string, commit: string, filepath: string): Promise<BlobAt | null> {
   try {
-    const { oid, blob } = await git.readBlob({ fs, dir, oid: commit, filepath });
+    const { oid, blob } = await git.readBlob({ ...at(dir), oid: commit, filepath });
     return { oid, content: blob };
   } catch (error) {
     if ((error as { code?: string }).code === 'NotFoundError') return null;
@@ -149,7 +162,7 @@ export async function listBlobsAt(dir: string, commit: string, prefix: string): 
   const visit = async (treePath: string): Promise<void> => {
     let entries;
     try {
-      entries = (await git.readTree({ fs, dir, oid: commit, filepath: treePath || undefined })).tree;
+      entries = (await git.readTree({ ...at(dir), oid: commit, filepath: treePath || undefined })).tree;
     } catch (error) {
       if ((error as { code?: string }).code === 'NotFoundError') return;
       throw error;
@@ -167,7 +180,7 @@ export async function listBlobsAt(dir: string, commit: string, prefix: string): 
 /** Commits reachable from `ref`, newest first. */
 export async function commitLog(dir: string, ref = 'HEAD'): Promise<CommitInfo[]> {
   try {
-    const entries = await git.log({ fs, dir, ref });
+    const entries = await git.log({ ...at(dir), ref });
     return entries.map((e) => ({ oid: e.oid, message: e.commit.message, author: e.commit.author, parents: e.commit.parent }));
   } catch (error) {
     if ((error as { code?: string }).code === 'NotFoundError') return [];
@@ -208,7 +221,7 @@ export async function pathHistory(dir: string, prefixes: readonly string[], ref 
 
 export async function hasCommits(dir: string): Promise<boolean> {
   try {
-    await git.resolveRef({ fs, dir, ref: 'HEAD' });
+    await git.resolveRef({ ...at(dir), ref: 'HEAD' });
     return true;
   } catch {
     return false;
