@@ -10,7 +10,7 @@ import { loadConfig, selectTables, type ProjectConfig, type TableConfig } from '
 import { applyCorrections, createLineageTable, type Conflict } from '../corrections/apply-corrections.js';
 import { loadCorrections } from '../corrections/load-corrections.js';
 import type { Correction } from '../corrections/types.js';
-import { loadRawTable, type RawInput } from './load-raw.js';
+import { loadRawTable, type RawCache, type RawInput } from './load-raw.js';
 
 export type BuildProgress =
   | { phase: 'load'; table: string }
@@ -24,6 +24,8 @@ export interface BuildOptions {
   /** Where DuckDB may spill and stage outputs; the only folder SQL can touch once inputs are loaded. */
   workDir: string;
   memoryLimit?: string;
+  /** Parsed deliveries cached by git blob id (see load-raw.ts); absent: no cache. */
+  cache?: RawCache;
   onProgress?: (event: BuildProgress) => void;
 }
 
@@ -52,80 +54,110 @@ export interface ProjectBuild {
   conflicts: Conflict[];
 }
 
+/** A project whose inputs are loaded into a session but not yet corrected. */
+export interface PreparedProject {
+  config: ProjectConfig;
+  prefix: string;
+  tables: Array<{ table: TableConfig; codebook: Codebook | null; inputs: RawInput[]; corrections: Correction[]; sources: RawInput[] }>;
+}
+
 /**
  * raw + corrections → clean, for each table, in one DuckDB session: load every delivery as text,
  * decide types over whole columns, lock the engine down, then apply the corrections with lineage.
- * Nothing is written here; see `writeBuildOutputs`. The caller closes `session`.
+ * Nothing is written here; see `stageOutputs`. The caller closes `session`.
  */
 export async function buildProject(options: BuildOptions): Promise<ProjectBuild> {
-  const { tree } = options;
-  const config = await loadConfig(tree);
-  const tables = selectTables(config, options.table);
-  if (tables.length === 0) {
-    throw new ErrataError('PROJECT_INVALID', 'errata.yaml declares no tables yet', {
-      hint: 'Add a table under `tables:` with its raw path and key (the comment at the top of errata.yaml shows how).',
-      data: { file: 'errata.yaml' },
-    });
-  }
   const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit });
   try {
-    const prepared: Array<{ table: TableConfig; codebook: Codebook | null; inputs: RawInput[]; corrections: Correction[]; sources: RawInput[] }> = [];
-    for (const table of tables) {
-      options.onProgress?.({ phase: 'load', table: table.name });
-      const codebook = await loadCodebook(tree, table.codebook);
-      const corrections = await loadCorrections(tree, table.corrections);
-      const { inputs } = await loadRawTable(session, tree, table, rawName(table));
-      const sources: RawInput[] = [];
-      if (codebook) sources.push({ path: table.codebook, blob: await tree.blobId(table.codebook) });
-      for (const c of corrections) sources.push({ path: c.file, blob: await tree.blobId(c.file) });
-      prepared.push({ table, codebook, inputs, corrections, sources });
-    }
+    const prepared = await prepareProject(session, options.tree, options);
     await session.lockDown([options.workDir]);
-
-    const builds: TableBuild[] = [];
-    for (const { table, codebook, inputs, corrections, sources } of prepared) {
-      const declared = declaredTypes(codebook);
-      const clean = cleanName(table);
-      const lineage = lineageName(table);
-      await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table))}`);
-      await applyColumnTypes(session, clean, await decideColumnTypes(session, clean, table.key, declared));
-      await createLineageTable(session, lineage);
-      const conflicts = await applyCorrections(session, corrections, {
-        table: clean,
-        key: table.key,
-        lineage,
-        onStep: (e) => options.onProgress?.({ phase: 'correct', table: table.name, correction: e.correction, index: e.index, total: e.total }),
-      });
-      // Corrections may have made a text column fit its type (e.g. after sentinels became missing).
-      const finalTypes = await decideColumnTypes(session, clean, table.key, declared);
-      await applyColumnTypes(session, clean, finalTypes);
-      const rows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(clean)}`);
-      builds.push({
-        config: table,
-        codebook,
-        inputs,
-        corrections,
-        sources,
-        conflicts,
-        typeProblems: finalTypes.filter((t) => t.misfits > 0),
-        columns: await columnsOf(session, clean),
-        rows: Number(rows.n),
-        rawTable: rawName(table),
-        cleanTable: clean,
-        lineageTable: lineage,
-      });
-    }
-    return { session, config, tables: builds, conflicts: builds.flatMap((b) => b.conflicts) };
+    const tables = await correctProject(session, prepared, options);
+    return { session, config: prepared.config, tables, conflicts: tables.flatMap((b) => b.conflicts) };
   } catch (error) {
     session.close();
     throw error;
   }
 }
 
+/**
+ * Load phase: read the project files of `tree` and load its raw deliveries into `session` under
+ * table names starting with `prefix`, so two revisions can sit side by side in one session.
+ */
+export async function prepareProject(
+  session: Session,
+  tree: ProjectTree,
+  options: { table?: string; prefix?: string; cache?: RawCache; onProgress?: (event: BuildProgress) => void } = {},
+): Promise<PreparedProject> {
+  const config = await loadConfig(tree);
+  const selected = selectTables(config, options.table);
+  if (selected.length === 0) {
+    throw new ErrataError('PROJECT_INVALID', 'errata.yaml declares no tables yet', {
+      hint: 'Add a table under `tables:` with its raw path and key (the comment at the top of errata.yaml shows how).',
+      data: { file: 'errata.yaml' },
+    });
+  }
+  const prefix = options.prefix ?? '';
+  const tables: PreparedProject['tables'] = [];
+  for (const table of selected) {
+    options.onProgress?.({ phase: 'load', table: table.name });
+    const codebook = await loadCodebook(tree, table.codebook);
+    const corrections = await loadCorrections(tree, table.corrections);
+    const { inputs } = await loadRawTable(session, tree, table, rawName(table, prefix), options.cache);
+    const sources: RawInput[] = [];
+    if (codebook) sources.push({ path: table.codebook, blob: await tree.blobId(table.codebook) });
+    for (const c of corrections) sources.push({ path: c.file, blob: await tree.blobId(c.file) });
+    tables.push({ table, codebook, inputs, corrections, sources });
+  }
+  return { config, prefix, tables };
+}
+
+/** Correct phase: types, corrections with lineage, final types. Runs after the session is locked down. */
+export async function correctProject(
+  session: Session,
+  prepared: PreparedProject,
+  options: { onProgress?: (event: BuildProgress) => void } = {},
+): Promise<TableBuild[]> {
+  const builds: TableBuild[] = [];
+  const { prefix } = prepared;
+  for (const { table, codebook, inputs, corrections, sources } of prepared.tables) {
+    const declared = declaredTypes(codebook);
+    const clean = cleanName(table, prefix);
+    const lineage = lineageName(table, prefix);
+    await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table, prefix))}`);
+    await applyColumnTypes(session, clean, await decideColumnTypes(session, clean, table.key, declared));
+    await createLineageTable(session, lineage);
+    const conflicts = await applyCorrections(session, corrections, {
+      table: clean,
+      key: table.key,
+      lineage,
+      onStep: (e) => options.onProgress?.({ phase: 'correct', table: table.name, correction: e.correction, index: e.index, total: e.total }),
+    });
+    // Corrections may have made a text column fit its type (e.g. after sentinels became missing).
+    const finalTypes = await decideColumnTypes(session, clean, table.key, declared);
+    await applyColumnTypes(session, clean, finalTypes);
+    const rows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(clean)}`);
+    builds.push({
+      config: table,
+      codebook,
+      inputs,
+      corrections,
+      sources,
+      conflicts,
+      typeProblems: finalTypes.filter((t) => t.misfits > 0),
+      columns: await columnsOf(session, clean),
+      rows: Number(rows.n),
+      rawTable: rawName(table, prefix),
+      cleanTable: clean,
+      lineageTable: lineage,
+    });
+  }
+  return builds;
+}
+
 function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {
   return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as ValueType]));
 }
 
-export const rawName = (table: TableConfig) => `raw_${table.name}`;
-export const cleanName = (table: TableConfig) => `clean_${table.name}`;
-export const lineageName = (table: TableConfig) => `lineage_${table.name}`;
+export const rawName = (table: TableConfig, prefix = '') => `${prefix}raw_${table.name}`;
+export const cleanName = (table: TableConfig, prefix = '') => `${prefix}clean_${table.name}`;
+export const lineageName = (table: TableConfig, prefix = '') => `${prefix}lineage_${table.name}`;
