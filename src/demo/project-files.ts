@@ -418,7 +418,7 @@ ${edit(PLANTED.weightDecimalSlip.id, 'weight_kg', PLANTED.weightDecimalSlip.raw,
   },
   {
     file: `corrections/${TABLE}/0009-impossible-age.yaml`,
-    text: `reason: Age of 214 years (query Q-015); the date of birth on the consent form gives 41
+    text: `reason: Age of ${PLANTED.impossibleAge.raw} years (query Q-015); the date of birth on the consent form gives ${PLANTED.impossibleAge.corrected}
 approval: N-006
 steps:
   - edit:

@@ -1,4 +1,4 @@
-import { openSync, readSync, closeSync } from 'node:fs';
+import { closeSync, existsSync, openSync, readSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import type { Session } from './session.js';
@@ -38,6 +38,9 @@ export function formatOf(filename: string, configured?: FileFormat): FileFormat 
  * Parquet keeps the types its writer declared.
  */
 export async function loadFile(session: Session, input: InputFile, target: string): Promise<string[]> {
+  if (!existsSync(input.localPath) || !statSync(input.localPath).isFile()) {
+    throw new ErrataError('INPUT_MISSING', `no such file: ${input.name}`, { hint: 'Check the path.', data: { file: input.name } });
+  }
   switch (input.format) {
     case 'csv':
     case 'tsv':

@@ -1,0 +1,34 @@
+import os from 'node:os';
+import path from 'node:path';
+import { loadTypedFile } from '../engine/load-typed.js';
+import { Session } from '../engine/session.js';
+import { diffRowMultisets } from './multiset-diff.js';
+import { diffTables } from './table-diff.js';
+import type { MultisetDiff, TableDiff } from './types.js';
+
+export interface FileDiffOptions {
+  /** Key columns; absent or empty: compare rows as multisets. */
+  key?: string[];
+  tolerance?: number;
+  cellLimit?: number;
+  memoryLimit?: string;
+  spillDir?: string;
+}
+
+/** Diff two files outside any project (`errata diff --files OLD NEW`). */
+export async function diffFiles(oldFile: string, newFile: string, options: FileDiffOptions): Promise<TableDiff | MultisetDiff> {
+  const session = await Session.open({
+    memoryLimit: options.memoryLimit ?? '2GB',
+    spillDir: options.spillDir ?? path.join(os.tmpdir(), `errata-spill-${process.pid}`),
+  });
+  try {
+    const key = options.key ?? [];
+    await loadTypedFile(session, oldFile, 'old_side', { key });
+    await loadTypedFile(session, newFile, 'new_side', { key });
+    const table = path.basename(newFile);
+    if (key.length === 0) return await diffRowMultisets(session, 'old_side', 'new_side', { table, rowLimit: options.cellLimit });
+    return await diffTables(session, 'old_side', 'new_side', { key, table, tolerance: options.tolerance, cellLimit: options.cellLimit });
+  } finally {
+    session.close();
+  }
+}

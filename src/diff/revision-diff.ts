@@ -1,0 +1,108 @@
+import path from 'node:path';
+import { ErrataError } from '../errors.js';
+import { Session } from '../engine/session.js';
+import { ident } from '../engine/sql.js';
+import type { ProjectTree } from '../git/tree.js';
+import { correctProject, prepareProject, type BuildProgress, type PreparedProject, type TableBuild } from '../build/build-project.js';
+import type { RawCache } from '../build/load-raw.js';
+import type { Conflict } from '../corrections/apply-corrections.js';
+import { diffTables } from './table-diff.js';
+import type { TableDiff } from './types.js';
+
+export interface RevisionDiffOptions {
+  base: ProjectTree;
+  head: ProjectTree;
+  table?: string;
+  /** Compare the raw deliveries instead of the clean builds. */
+  raw?: boolean;
+  tolerance?: number;
+  cellLimit?: number;
+  workDir: string;
+  cache?: RawCache;
+  memoryLimit?: string;
+  onProgress?: (event: BuildProgress | { phase: 'diff'; table: string }) => void;
+}
+
+export interface RevisionDiff {
+  diffs: TableDiff[];
+  /** Conflicts met while building either end; the diff shows the build with those edits left out. */
+  conflicts: Array<Conflict & { side: 'base' | 'head' }>;
+}
+
+/**
+ * Build (or, with `raw`, just load) the project at both ends in one session and diff each table.
+ * A table that exists at one end only is diffed against an empty table of the same shape.
+ */
+export async function diffRevisions(options: RevisionDiffOptions): Promise<RevisionDiff> {
+  const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit ?? '2GB' });
+  try {
+    const prepare = (tree: ProjectTree, prefix: string) =>
+      prepareProject(session, tree, { table: options.table, prefix, cache: options.cache, onProgress: options.onProgress }).catch((error) => {
+        // A revision before the project existed (or before this table) is simply empty.
+        if (error instanceof ErrataError && (error.code === 'PROJECT_NOT_FOUND' || error.code === 'TABLE_UNKNOWN' || error.code === 'INPUT_MISSING')) return null;
+        throw error;
+      });
+    const base = await prepare(options.base, 'b_');
+    const head = await prepare(options.head, 'h_');
+    if (!base && !head) {
+      throw new ErrataError('TABLE_UNKNOWN', options.table ? `no table "${options.table}" at either end` : 'no errata project at either end', {
+        hint: 'Check the revisions and the table name (errata.yaml lists the tables).',
+      });
+    }
+    await session.lockDown([options.workDir]);
+    const baseTables = await finish(session, base, options);
+    const headTables = await finish(session, head, options);
+    const names = [...new Set([...headTables.keys(), ...baseTables.keys()])].sort();
+    const diffs: TableDiff[] = [];
+    for (const name of names) {
+      options.onProgress?.({ phase: 'diff', table: name });
+      const before = baseTables.get(name);
+      const after = headTables.get(name);
+      const key = (after ?? before)!.key;
+      const oldTable = before?.table ?? (await emptyLike(session, after!.table, `b_empty_${name}`));
+      const newTable = after?.table ?? (await emptyLike(session, before!.table, `h_empty_${name}`));
+      diffs.push(
+        await diffTables(session, oldTable, newTable, {
+          key,
+          table: name,
+          tolerance: options.tolerance,
+          cellLimit: options.cellLimit,
+          lineage: options.raw ? undefined : after?.lineage,
+        }),
+      );
+    }
+    const conflicts = [
+      ...[...baseTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'base' as const }))),
+      ...[...headTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'head' as const }))),
+    ];
+    return { diffs, conflicts };
+  } finally {
+    session.close();
+  }
+}
+
+interface Finished {
+  table: string;
+  key: string[];
+  lineage?: string;
+  conflicts: Conflict[];
+}
+
+async function finish(session: Session, prepared: PreparedProject | null, options: RevisionDiffOptions): Promise<Map<string, Finished>> {
+  const out = new Map<string, Finished>();
+  if (!prepared) return out;
+  if (options.raw) {
+    for (const { table } of prepared.tables) {
+      out.set(table.name, { table: `${prepared.prefix}raw_${table.name}`, key: table.key, conflicts: [] });
+    }
+    return out;
+  }
+  const builds: TableBuild[] = await correctProject(session, prepared, { onProgress: options.onProgress });
+  for (const b of builds) out.set(b.config.name, { table: b.cleanTable, key: b.config.key, lineage: b.lineageTable, conflicts: b.conflicts });
+  return out;
+}
+
+async function emptyLike(session: Session, table: string, name: string): Promise<string> {
+  await session.run(`CREATE OR REPLACE TABLE ${ident(name)} AS SELECT * FROM ${ident(table)} LIMIT 0`);
+  return name;
+}

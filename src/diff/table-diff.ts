@@ -1,0 +1,158 @@
+import { valueTypeOf } from '../engine/column-types.js';
+import { keyExpression } from '../engine/keys.js';
+import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
+import type { Session } from '../engine/session.js';
+import { ident } from '../engine/sql.js';
+import type { CellChange, ColumnRetype, DiffSummary, TableDiff } from './types.js';
+
+export interface DiffOptions {
+  key: readonly string[];
+  /** Numbers closer than this count as equal. */
+  tolerance?: number;
+  /** Keep at most this many changed cells (all are counted). Default: all. */
+  cellLimit?: number;
+  /** Name shown in renderings. */
+  table?: string;
+  /** Lineage table of the new side, to attribute each changed cell to the correction that made it. */
+  lineage?: string;
+}
+
+const NUMERIC = new Set(['integer', 'number']);
+
+/**
+ * Keyed cell-level diff of two tables in one session, as SQL: a full outer join on the key, and for
+ * every common column a null-safe comparison (numbers within `tolerance` count as equal). Only rows
+ * that differ are materialised, so memory follows the size of the change, not of the tables.
+ */
+export async function diffTables(session: Session, oldTable: string, newTable: string, options: DiffOptions): Promise<TableDiff> {
+  const key = [...options.key];
+  const oldColumns = await columnsOf(session, oldTable);
+  const newColumns = await columnsOf(session, newTable);
+  const oldByName = new Map(oldColumns.map((c) => [c.name, c]));
+  const newByName = new Map(newColumns.map((c) => [c.name, c]));
+  const common = newColumns.filter((c) => oldByName.has(c.name) && !key.includes(c.name));
+  const added = newColumns.filter((c) => !oldByName.has(c.name)).map((c) => c.name);
+  const removed = oldColumns.filter((c) => !newByName.has(c.name)).map((c) => c.name);
+  const retyped: ColumnRetype[] = common
+    .filter((c) => valueTypeOf(c.type) !== valueTypeOf(oldByName.get(c.name)!.type))
+    .map((c) => ({ column: c.name, from: valueTypeOf(oldByName.get(c.name)!.type), to: valueTypeOf(c.type) }));
+
+  const joinOn = key.map((k) => sameKey(k, oldByName.get(k)!, newByName.get(k)!)).join(' AND ');
+  const flags = common.map((c, i) => `${differs(c, oldByName.get(c.name)!, options.tolerance)} AS "d${i}"`);
+  const anyFlag = common.length ? common.map((_, i) => `"d${i}"`).join(' OR ') : 'false';
+  const rowKey = `CASE WHEN n.${ident(key[0])} IS NULL THEN ${keyExpression(key, 'o')} ELSE ${keyExpression(key, 'n')} END`;
+  const order = key.map((k) => `COALESCE(n.${ident(k)}, o.${ident(k)})`);
+  const work = `__diff_${Math.random().toString(36).slice(2, 10)}`;
+  await session.run(`CREATE TEMP TABLE ${ident(work)} AS
+    SELECT * FROM (
+      SELECT ${rowKey} AS "key",
+             ${order.map((o, i) => `${o} AS "k${i}"`).join(', ')},
+             o.${ident(key[0])} IS NULL AS "added",
+             n.${ident(key[0])} IS NULL AS "removed",
+             ${[...flags, ...common.flatMap((c, i) => [`CAST(o.${ident(c.name)} AS VARCHAR) AS "o${i}"`, `CAST(n.${ident(c.name)} AS VARCHAR) AS "n${i}"`])].join(',\n             ')}
+      FROM ${ident(oldTable)} AS o FULL OUTER JOIN ${ident(newTable)} AS n ON ${joinOn}
+    ) WHERE "added" OR "removed" OR ${anyFlag}`);
+  try {
+    const counts = await session.one<Record<string, bigint>>(`
+      SELECT count(*) FILTER (WHERE "added") AS added,
+             count(*) FILTER (WHERE "removed") AS removed,
+             count(*) FILTER (WHERE NOT "added" AND NOT "removed") AS changed,
+             ${common.length ? common.map((_, i) => `count(*) FILTER (WHERE NOT "added" AND NOT "removed" AND "d${i}")`).join(' + ') : '0'} AS cells
+      FROM ${ident(work)}`);
+    const newRows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(newTable)}`);
+    const summary: DiffSummary = {
+      rows: {
+        added: Number(counts.added),
+        removed: Number(counts.removed),
+        changed: Number(counts.changed),
+        unchanged: Number(newRows.n) - Number(counts.added) - Number(counts.changed),
+      },
+      cells: { changed: Number(counts.cells) },
+      columns: { added, removed, retyped: retyped.map((r) => r.column) },
+    };
+    const keyOrder = key.map((_, i) => `"k${i}"`).join(', ');
+    const keysWhere = async (flag: string) =>
+      (await session.all<{ key: string }>(`SELECT "key" FROM ${ident(work)} WHERE ${flag} ORDER BY ${keyOrder}`)).map((r) => r.key);
+    const cells = common.length ? await changedCells(session, work, common, keyOrder, options) : [];
+    return {
+      table: options.table ?? newTable,
+      key,
+      summary,
+      retyped,
+      renamed: await likelyRenames(session, oldTable, newTable, key, removed, added),
+      addedKeys: await keysWhere('"added"'),
+      removedKeys: await keysWhere('"removed"'),
+      cells,
+      complete: cells.length === summary.cells.changed,
+    };
+  } finally {
+    await session.run(`DROP TABLE IF EXISTS ${ident(work)}`);
+  }
+}
+
+/** Key columns match across sides; compared as text when their types differ (e.g. 42 and "42"). */
+function sameKey(k: string, oldColumn: ColumnInfo, newColumn: ColumnInfo): string {
+  if (oldColumn.type === newColumn.type) return `o.${ident(k)} = n.${ident(k)}`;
+  return `CAST(o.${ident(k)} AS VARCHAR) = CAST(n.${ident(k)} AS VARCHAR)`;
+}
+
+/** SQL that is true when a cell changed: null-safe, typed, numbers within tolerance equal. */
+function differs(newColumn: ColumnInfo, oldColumn: ColumnInfo, tolerance?: number): string {
+  const o = `o.${ident(newColumn.name)}`;
+  const n = `n.${ident(newColumn.name)}`;
+  const bothNumeric = NUMERIC.has(valueTypeOf(oldColumn.type)) && NUMERIC.has(valueTypeOf(newColumn.type));
+  if (bothNumeric && tolerance !== undefined && tolerance > 0) {
+    return `(o.${ident(newColumn.name)} IS NULL) <> (n.${ident(newColumn.name)} IS NULL) OR abs(CAST(${o} AS DOUBLE) - CAST(${n} AS DOUBLE)) > ${Number(tolerance)}`;
+  }
+  if (oldColumn.type === newColumn.type || bothNumeric) return `${o} IS DISTINCT FROM ${n}`;
+  return `CAST(${o} AS VARCHAR) IS DISTINCT FROM CAST(${n} AS VARCHAR)`;
+}
+
+async function changedCells(session: Session, work: string, common: ColumnInfo[], keyOrder: string, options: DiffOptions): Promise<CellChange[]> {
+  const perColumn = common.map(
+    (c, i) => `SELECT "key", ${keyOrder}, ${i} AS "ci", ${sqlText(c.name)} AS "column", "o${i}" AS "old", "n${i}" AS "new"
+               FROM ${ident(work)} WHERE NOT "added" AND NOT "removed" AND "d${i}"`,
+  );
+  const limit = options.cellLimit !== undefined ? `LIMIT ${Math.max(0, Math.floor(options.cellLimit))}` : '';
+  const cells = `(${perColumn.join(' UNION ALL ')})`;
+  const attribution = options.lineage
+    ? `LEFT JOIN (SELECT "key", "column", arg_max("correction", ("correction", "step")) AS "correction"
+                  FROM ${ident(options.lineage)} WHERE "change" = 'cell' GROUP BY ALL) AS l
+         ON l."key" = c."key" AND l."column" = c."column"`
+    : '';
+  const rows = await session.all<{ key: string; column: string; old: string | null; new: string | null; correction?: string | null }>(
+    `SELECT c."key", c."column", c."old", c."new"${options.lineage ? ', l."correction"' : ''}
+     FROM ${cells} AS c ${attribution}
+     ORDER BY ${keyOrder.split(', ').map((k) => `c.${k}`).join(', ')}, c."ci" ${limit}`,
+  );
+  return rows.map((r) => (options.lineage ? { ...r, correction: r.correction ?? null } : { key: r.key, column: r.column, old: r.old, new: r.new }));
+}
+
+/** A removed and an added column with identical values in every common row: most likely a rename. */
+async function likelyRenames(session: Session, oldTable: string, newTable: string, key: string[], removed: string[], added: string[]) {
+  const renames: Array<{ from: string; to: string }> = [];
+  const taken = new Set<string>();
+  if (removed.length === 0 || added.length === 0 || removed.length * added.length > 400) return renames;
+  const joinOn = key.map((k) => `CAST(o.${ident(k)} AS VARCHAR) = CAST(n.${ident(k)} AS VARCHAR)`).join(' AND ');
+  for (const from of removed) {
+    for (const to of added) {
+      if (taken.has(to)) continue;
+      const row = await session.one<{ rows: bigint; different: bigint; present: bigint }>(
+        `SELECT count(*) AS rows,
+                count(*) FILTER (WHERE CAST(o.${ident(from)} AS VARCHAR) IS DISTINCT FROM CAST(n.${ident(to)} AS VARCHAR)) AS different,
+                count(o.${ident(from)}) AS present
+         FROM ${ident(oldTable)} AS o JOIN ${ident(newTable)} AS n ON ${joinOn}`,
+      );
+      if (Number(row.rows) > 0 && Number(row.different) === 0 && Number(row.present) > 0) {
+        renames.push({ from, to });
+        taken.add(to);
+        break;
+      }
+    }
+  }
+  return renames;
+}
+
+function sqlText(value: string): string {
+  return `'${value.replaceAll("'", "''")}'`;
+}
