@@ -42,7 +42,7 @@ people:
         columns: all
   - id: ${SITE_LEAD.id}
     name: ${SITE_LEAD.name}
-    role: site lead, Quorrin Bay clinic (site 012)
+    role: site lead, Quorrin Bay clinic
     email: ${SITE_LEAD.email}
     approves:
       - table: ${TABLE}
@@ -271,14 +271,15 @@ text column once it is converted.
 Oona
 
 > On 10 February 2025, Pell Arendt wrote:
-> cigs_per_day holds words in ${words.length} rows (${words.map((w) => `${w.id}: "${w.text}"`).join(', ')})
+> cigs_per_day holds words in ${words.length} rows:
+> ${words.map((w) => `${w.id}: "${w.text}"`).join(',\n> ')};
 > and -99 in ${PLANTED.cigarettesNotAsked.length} rows (${ids(PLANTED.cigarettesNotAsked)}).
 `),
   },
   'N-005': {
     id: 'N-005',
     approver: SITE_LEAD,
-    role: 'site lead, Quorrin Bay clinic (site 012)',
+    role: 'site lead, Quorrin Bay clinic',
     date: '2025-02-12',
     approves: 'Heights under 90 at site 012 are inches; convert them to centimetres',
     evidence: mail(SITE_LEAD, DATA_MANAGER, '12 February 2025', 'Re: Heights under 90 cm at Quorrin Bay', `
