@@ -1,4 +1,4 @@
-import { valueTypeOf } from '../engine/column-types.js';
+import { SQL_TYPE, valueTypeOf, type ValueType } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -15,6 +15,16 @@ export interface DiffOptions {
   table?: string;
   /** Lineage table of the new side, to attribute each changed cell to the correction that made it. */
   lineage?: string;
+  /**
+   * Types to compare by, for tables kept as delivered text (file diffs): values are compared as these
+   * types but shown as their original text. Columns not named compare by their SQL type.
+   */
+  compareTypes?: { old: ReadonlyMap<string, ValueType>; new: ReadonlyMap<string, ValueType> };
+}
+
+/** A column with the type its values are compared as. */
+interface Compared extends ColumnInfo {
+  as: ValueType;
 }
 
 const NUMERIC = new Set(['integer', 'number']);
@@ -26,16 +36,18 @@ const NUMERIC = new Set(['integer', 'number']);
  */
 export async function diffTables(session: Session, oldTable: string, newTable: string, options: DiffOptions): Promise<TableDiff> {
   const key = [...options.key];
-  const oldColumns = await columnsOf(session, oldTable);
-  const newColumns = await columnsOf(session, newTable);
+  const withTypes = (columns: ColumnInfo[], types?: ReadonlyMap<string, ValueType>): Compared[] =>
+    columns.map((c) => ({ ...c, as: types?.get(c.name) ?? valueTypeOf(c.type) }));
+  const oldColumns = withTypes(await columnsOf(session, oldTable), options.compareTypes?.old);
+  const newColumns = withTypes(await columnsOf(session, newTable), options.compareTypes?.new);
   const oldByName = new Map(oldColumns.map((c) => [c.name, c]));
   const newByName = new Map(newColumns.map((c) => [c.name, c]));
   const common = newColumns.filter((c) => oldByName.has(c.name) && !key.includes(c.name));
   const added = newColumns.filter((c) => !oldByName.has(c.name)).map((c) => c.name);
   const removed = oldColumns.filter((c) => !newByName.has(c.name)).map((c) => c.name);
   const retyped: ColumnRetype[] = common
-    .filter((c) => valueTypeOf(c.type) !== valueTypeOf(oldByName.get(c.name)!.type))
-    .map((c) => ({ column: c.name, from: valueTypeOf(oldByName.get(c.name)!.type), to: valueTypeOf(c.type) }));
+    .filter((c) => c.as !== oldByName.get(c.name)!.as)
+    .map((c) => ({ column: c.name, from: oldByName.get(c.name)!.as, to: c.as }));
 
   const joinOn = key.map((k) => sameKey(k, oldByName.get(k)!, newByName.get(k)!)).join(' AND ');
   const flags = common.map((c, i) => `${differs(c, oldByName.get(c.name)!, options.tolerance)} AS "d${i}"`);
@@ -97,15 +109,26 @@ function sameKey(k: string, oldColumn: ColumnInfo, newColumn: ColumnInfo): strin
 }
 
 /** SQL that is true when a cell changed: null-safe, typed, numbers within tolerance equal. */
-function differs(newColumn: ColumnInfo, oldColumn: ColumnInfo, tolerance?: number): string {
-  const o = `o.${ident(newColumn.name)}`;
-  const n = `n.${ident(newColumn.name)}`;
-  const bothNumeric = NUMERIC.has(valueTypeOf(oldColumn.type)) && NUMERIC.has(valueTypeOf(newColumn.type));
+function differs(newColumn: Compared, oldColumn: Compared, tolerance?: number): string {
+  const o = comparable(`o.${ident(oldColumn.name)}`, oldColumn, newColumn.as);
+  const n = comparable(`n.${ident(newColumn.name)}`, newColumn, oldColumn.as);
+  const bothNumeric = NUMERIC.has(oldColumn.as) && NUMERIC.has(newColumn.as);
   if (bothNumeric && tolerance !== undefined && tolerance > 0) {
-    return `(o.${ident(newColumn.name)} IS NULL) <> (n.${ident(newColumn.name)} IS NULL) OR abs(CAST(${o} AS DOUBLE) - CAST(${n} AS DOUBLE)) > ${Number(tolerance)}`;
+    return `((${o}) IS NULL) <> ((${n}) IS NULL) OR abs((${o}) - (${n})) > ${Number(tolerance)}`;
   }
-  if (oldColumn.type === newColumn.type || bothNumeric) return `${o} IS DISTINCT FROM ${n}`;
-  return `CAST(${o} AS VARCHAR) IS DISTINCT FROM CAST(${n} AS VARCHAR)`;
+  return `(${o}) IS DISTINCT FROM (${n})`;
+}
+
+/**
+ * A column's value in the form both sides are compared in: both integer → BIGINT, both numeric →
+ * DOUBLE, both the same other type → that type; types that disagree → the text.
+ */
+function comparable(value: string, column: Compared, otherAs: ValueType): string {
+  const as = column.as === otherAs || (NUMERIC.has(column.as) && NUMERIC.has(otherAs)) ? column.as : 'string';
+  const target = as === 'integer' && otherAs === 'integer' ? 'BIGINT' : NUMERIC.has(as) ? 'DOUBLE' : as === 'string' ? 'VARCHAR' : SQL_TYPE[as];
+  if (column.type === target) return value;
+  if (column.type === 'VARCHAR' && as === 'boolean') return `(lower(${value}) = 'true')`;
+  return column.type === 'VARCHAR' ? `TRY_CAST(${value} AS ${target})` : `CAST(${value} AS ${target})`;
 }
 
 async function changedCells(session: Session, work: string, common: ColumnInfo[], keyOrder: string, options: DiffOptions): Promise<CellChange[]> {
@@ -115,13 +138,18 @@ async function changedCells(session: Session, work: string, common: ColumnInfo[]
   );
   const limit = options.cellLimit !== undefined ? `LIMIT ${Math.max(0, Math.floor(options.cellLimit))}` : '';
   const cells = `(${perColumn.join(' UNION ALL ')})`;
+  // A cell's producer is the last correction that set it; failing that, the one that made its column
+  // (a derived or converted column's values come from the step that created it).
   const attribution = options.lineage
     ? `LEFT JOIN (SELECT "key", "column", arg_max("correction", ("correction", "step")) AS "correction"
                   FROM ${ident(options.lineage)} WHERE "change" = 'cell' GROUP BY ALL) AS l
-         ON l."key" = c."key" AND l."column" = c."column"`
+         ON l."key" = c."key" AND l."column" = c."column"
+       LEFT JOIN (SELECT "column", arg_max("correction", ("correction", "step")) AS "correction"
+                  FROM ${ident(options.lineage)} WHERE "change" IN ('column-added', 'column-retyped') GROUP BY ALL) AS lc
+         ON lc."column" = c."column"`
     : '';
   const rows = await session.all<{ key: string; column: string; old: string | null; new: string | null; correction?: string | null }>(
-    `SELECT c."key", c."column", c."old", c."new"${options.lineage ? ', l."correction"' : ''}
+    `SELECT c."key", c."column", c."old", c."new"${options.lineage ? ', COALESCE(l."correction", lc."correction") AS "correction"' : ''}
      FROM ${cells} AS c ${attribution}
      ORDER BY ${keyOrder.split(', ').map((k) => `c.${k}`).join(', ')}, c."ci" ${limit}`,
   );

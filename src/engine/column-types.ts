@@ -71,13 +71,18 @@ const MOSTLY = 0.9;
  * Decide each text column's type from every value in it (never a sample, so a bad value in the last
  * row is seen the same way on every run). A declared type is taken only when every value fits it; when
  * some do not, the column stays text and the misfits are reported for a correction to deal with.
+ * With `preserveText` (the build's rule, the default) a column becomes a number only if no value would
+ * be rewritten; without it (comparison only, as in a diff) any column of numbers is numeric, so 1.000
+ * and 1 compare equal.
  */
 export async function decideColumnTypes(
   session: Session,
   table: string,
   key: readonly string[],
   declared: ReadonlyMap<string, ValueType>,
+  options: { preserveText?: boolean } = {},
 ): Promise<ColumnTyping[]> {
+  const preserveText = options.preserveText ?? true;
   const columns = await session.all<{ column_name: string; data_type: string }>(
     `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
     [table],
@@ -97,7 +102,7 @@ export async function decideColumnTypes(
   for (const [i, column] of text.entries()) {
     const n = Number(counts[`n${i}`]);
     const fits = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type}${i}`]);
-    const detects = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type === 'number' ? 'exactnumber' : type}${i}`]);
+    const detects = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type === 'number' && preserveText ? 'exactnumber' : type}${i}`]);
     const wantedType = declared.get(column);
     let typing: ColumnTyping;
     if (wantedType) {

@@ -1,20 +1,21 @@
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { applyColumnTypes, decideColumnTypes } from './column-types.js';
+import { applyColumnTypes, decideColumnTypes, type ValueType } from './column-types.js';
 import { assertKeyValid } from './keys.js';
 import { formatOf, loadFile, type FileFormat } from './load-table.js';
 import type { Session } from './session.js';
 
 /**
  * Load a file outside any project (for `diff --files`, `profile --files`): read as text, decide each
- * column's type over every value, and check the key if one is given.
+ * column's type over every value, and check the key if one is given. With `keepText` the table stays
+ * text and the decided types are only returned (a diff compares by them but shows the text delivered).
  */
 export async function loadTypedFile(
   session: Session,
   file: string,
   target: string,
-  options: { key?: readonly string[]; format?: FileFormat; delimiter?: string } = {},
-): Promise<string[]> {
+  options: { key?: readonly string[]; format?: FileFormat; delimiter?: string; keepText?: boolean } = {},
+): Promise<Map<string, ValueType>> {
   const format = formatOf(file, options.format);
   if (!format) {
     throw new ErrataError('INPUT_FORMAT', `cannot tell the format of ${path.basename(file)} from its extension`, {
@@ -25,6 +26,9 @@ export async function loadTypedFile(
   const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
   if (key.length) await assertKeyValid(session, target, key, columns, file);
-  await applyColumnTypes(session, target, await decideColumnTypes(session, target, key, new Map()));
-  return columns;
+  const typings = await decideColumnTypes(session, target, key, new Map(), { preserveText: !options.keepText });
+  if (!options.keepText) await applyColumnTypes(session, target, typings);
+  const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
+  for (const t of typings) types.set(t.column, t.type);
+  return types;
 }

@@ -11,7 +11,7 @@ export function renderDiffMarkdown(diffs: readonly TableDiff[], limit = 50): str
     );
   }
   for (const d of diffs) {
-    if (d.cells.length === 0 && d.addedKeys.length === 0 && d.removedKeys.length === 0) continue;
+    if (d.summary.cells.changed === 0 && d.addedKeys.length === 0 && d.removedKeys.length === 0) continue;
     lines.push('', `### ${escapeMarkdownCell(d.table)}`, '');
     const attributed = d.cells.some((c) => c.correction !== undefined);
     if (d.cells.length) {
@@ -21,9 +21,9 @@ export function renderDiffMarkdown(diffs: readonly TableDiff[], limit = 50): str
           `| ${escapeMarkdownCell(c.key)} | ${escapeMarkdownCell(c.column)} | ${escapeMarkdownCell(showValue(c.old))} | ${escapeMarkdownCell(showValue(c.new))} |${attributed ? ` ${escapeMarkdownCell(c.correction ?? '—')} |` : ''}`,
         );
       }
-      const more = d.summary.cells.changed - Math.min(limit, d.cells.length);
-      if (more > 0) lines.push('', `…and ${more} more changed cell${more === 1 ? '' : 's'}.`);
     }
+    const more = d.summary.cells.changed - Math.min(limit, d.cells.length);
+    if (more > 0) lines.push('', `…and ${more} more changed cell${more === 1 ? '' : 's'}.`);
     if (d.addedKeys.length) lines.push('', `Rows added: ${escapeMarkdownCell(d.addedKeys.slice(0, limit).join(', '))}${d.addedKeys.length > limit ? ` …and ${d.addedKeys.length - limit} more` : ''}`);
     if (d.removedKeys.length) lines.push('', `Rows removed: ${escapeMarkdownCell(d.removedKeys.slice(0, limit).join(', '))}${d.removedKeys.length > limit ? ` …and ${d.removedKeys.length - limit} more` : ''}`);
   }
