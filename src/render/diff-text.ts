@@ -33,10 +33,12 @@ export function summaryLine(diff: TableDiff): string {
   return `${rows.changed} row${rows.changed === 1 ? '' : 's'} changed (${cells.changed} cell${cells.changed === 1 ? '' : 's'}), ${rows.added} added, ${rows.removed} removed, ${rows.unchanged} unchanged`;
 }
 
-/** old → new; for two texts, the words that changed are marked within the value. */
+/** old → new; for two texts sharing some words, the words that changed are marked within the value. */
 export function renderChange(cell: CellChange, paint: Paint): string {
   if (cell.old !== null && cell.new !== null && /[A-Za-z]/.test(cell.old + cell.new) && cell.old.length + cell.new.length < 400) {
     const parts = diffWordsWithSpace(cell.old, cell.new);
+    const shared = parts.some((p) => !p.added && !p.removed && p.value.trim() !== '');
+    if (!shared) return `${paint.red(showValue(cell.old))} → ${paint.green(showValue(cell.new))}`;
     const before = parts.filter((p) => !p.added).map((p) => (p.removed ? paint.red(`[-${p.value}-]`) : p.value)).join('');
     const after = parts.filter((p) => !p.removed).map((p) => (p.added ? paint.green(`{+${p.value}+}`) : p.value)).join('');
     return `${before} → ${after}`;
