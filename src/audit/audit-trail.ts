@@ -1,6 +1,7 @@
 import { ident } from '../engine/sql.js';
 import type { ProjectBuild } from '../build/build-project.js';
 import type { ApprovalNote } from '../project/notes.js';
+import type { Person } from '../project/people.js';
 import { auditOf, type Introduced } from './history.js';
 
 /** One line of the audit trail: a correction, its decision and what it changed. */
@@ -11,6 +12,8 @@ export interface AuditEntry {
   reason: string;
   approval: string | null;
   approver: string | null;
+  /** The approver's name from people.yaml. */
+  approverName: string | null;
   approvedOn: string | null;
   /** Commit that added the file, or null if it is not committed yet. */
   commit: string | null;
@@ -25,7 +28,12 @@ export interface AuditEntry {
 }
 
 /** The audit trail of every correction of the built tables, in the order they apply. */
-export async function auditTrail(build: ProjectBuild, notes: Map<string, ApprovalNote>, origins: Map<string, Introduced>): Promise<AuditEntry[]> {
+export async function auditTrail(
+  build: ProjectBuild,
+  notes: Map<string, ApprovalNote>,
+  origins: Map<string, Introduced>,
+  people: Map<string, Person> = new Map(),
+): Promise<AuditEntry[]> {
   const entries: AuditEntry[] = [];
   for (const table of build.tables) {
     const counts = await build.session.all<{ correction: string; change: string; column: string | null; n: bigint }>(
@@ -47,6 +55,7 @@ export async function auditTrail(build: ProjectBuild, notes: Map<string, Approva
         reason: correction.reason,
         approval: correction.approval ?? null,
         approver: audit.note?.approver ?? null,
+        approverName: audit.note ? (people.get(audit.note.approver)?.name ?? null) : null,
         approvedOn: audit.note?.date ?? null,
         commit: audit.introduced?.commit ?? null,
         author: audit.introduced?.author ?? null,

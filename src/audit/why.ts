@@ -4,6 +4,7 @@ import { ident } from '../engine/sql.js';
 import type { ProjectBuild, TableBuild } from '../build/build-project.js';
 import type { ChangeKind } from '../corrections/apply-corrections.js';
 import type { ApprovalNote } from '../project/notes.js';
+import type { Person } from '../project/people.js';
 import { findTable } from '../project/config.js';
 import { auditOf, type Introduced } from './history.js';
 
@@ -21,6 +22,8 @@ export interface CellEvent {
   reason: string;
   approval: string | null;
   note: ApprovalNote | null;
+  /** The approver's name from people.yaml (the note names them by id). */
+  approverName: string | null;
   introduced: Introduced | null;
 }
 
@@ -43,6 +46,7 @@ export async function explainCell(
   request: { table: string; key: string[]; column: string },
   notes: Map<string, ApprovalNote>,
   origins: Map<string, Introduced>,
+  people: Map<string, Person> = new Map(),
 ): Promise<CellHistory> {
   const config = findTable(build.config, request.table);
   const table = build.tables.find((t) => t.config.name === config.name) as TableBuild;
@@ -53,22 +57,29 @@ export async function explainCell(
   }
   const key = keyText(request.key);
   const { session } = build;
+  // Column events sort first within a step, so the walk below meets a convert's cells before the
+  // event that created their column.
   const events = await session.all<{ correction: string; step: number; change: ChangeKind; column: string | null; old: string | null; new: string | null }>(
     `SELECT "correction", "step", "change", "column", "old", "new" FROM ${ident(table.lineageTable)}
-     WHERE "key" = $1 OR "key" IS NULL ORDER BY "correction", "step"`,
+     WHERE "key" = $1 OR "key" IS NULL ORDER BY "correction", "step", "key" IS NOT NULL`,
     [key],
   );
-  // Follow renames backwards to learn every name the column had.
-  const names = new Set([request.column]);
+  // Walk backwards from the column asked about, following renames and conversions to the column it
+  // came from; a derived column has no raw value.
   let rawColumn: string | null = request.column;
+  const relevant: typeof events = [];
   for (const e of [...events].reverse()) {
-    if (e.change === 'column-renamed' && e.new !== null && names.has(e.new)) {
-      names.add(e.old!);
-      if (rawColumn === e.new) rawColumn = e.old;
-    }
-    if (e.change === 'column-added' && e.column !== null && names.has(e.column) && rawColumn === e.column) rawColumn = null;
+    if (e.change === 'row-deleted') relevant.push(e);
+    else if (rawColumn === null || e.column === null) continue;
+    else if (e.change === 'column-renamed' && e.new === rawColumn) {
+      relevant.push(e);
+      rawColumn = e.old;
+    } else if (e.change === 'column-added' && e.column === rawColumn) {
+      relevant.push(e);
+      rawColumn = e.old !== null && !isDerived(table, e) ? e.old : null;
+    } else if (e.column === rawColumn) relevant.push(e);
   }
-  const relevant = events.filter((e) => e.change === 'row-deleted' || (e.column !== null && names.has(e.column)));
+  relevant.reverse();
 
   const rawColumns = await session.all<{ column_name: string }>(`SELECT column_name FROM duckdb_columns() WHERE table_name = $1`, [table.rawTable]);
   if (rawColumn && !rawColumns.some((c) => c.column_name === rawColumn)) rawColumn = null;
@@ -117,8 +128,15 @@ export async function explainCell(
         reason: step.kind === 'delete' ? `${correction.reason} (row deleted: ${step.reason})` : correction.reason,
         approval: correction.approval ?? null,
         note: audit.note ?? null,
+        approverName: audit.note ? (people.get(audit.note.approver)?.name ?? null) : null,
         introduced: audit.introduced ?? null,
       };
     }),
   };
+}
+
+/** column-added events come from derive (old: null) or convert (old: the source column). */
+function isDerived(table: TableBuild, e: { correction: string; step: number }): boolean {
+  const correction = table.corrections.find((c) => c.id === e.correction);
+  return correction?.steps[e.step - 1]?.kind === 'derive';
 }

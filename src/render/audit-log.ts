@@ -29,7 +29,7 @@ function renderText(entries: readonly AuditEntry[], paint: Paint): string {
   for (const e of entries) {
     lines.push(`${paint.bold(e.file)}${e.commit ? paint.dim(`  ${e.commit.slice(0, 7)} ${e.date?.slice(0, 10)} ${e.author}`) : paint.yellow('  (not committed)')}`);
     lines.push(`  reason:   ${e.reason}`);
-    lines.push(`  approval: ${e.approval ? `${e.approval}${e.approver ? ` by ${e.approver} on ${e.approvedOn}` : paint.red(' (note not found)')}` : paint.red('none')}`);
+    lines.push(`  approval: ${e.approval ? `${e.approval}${e.approver ? ` by ${e.approverName ?? e.approver} on ${e.approvedOn}` : paint.red(' (note not found)')}` : paint.red('none')}`);
     lines.push(`  changed:  ${e.cellsChanged} cell${e.cellsChanged === 1 ? '' : 's'}${e.cellsChanged || e.rowsDeleted || e.columnEvents.length ? ` — ${perColumn(e)}` : ''}`);
     lines.push('');
   }
@@ -42,7 +42,7 @@ function renderMarkdown(entries: readonly AuditEntry[]): string {
     '|---|---|---|---|---|---|',
   ];
   for (const e of entries) {
-    const approval = e.approval ? `${e.approval}${e.approver ? ` (${e.approver}, ${e.approvedOn})` : ' (note not found)'}` : 'none';
+    const approval = e.approval ? `${e.approval}${e.approver ? ` (${e.approverName ?? e.approver}, ${e.approvedOn})` : ' (note not found)'}` : 'none';
     lines.push(
       `| \`${e.file}\` | ${e.date?.slice(0, 10) ?? 'not committed'} | ${escapeMarkdownCell(e.author ?? '')} | ${escapeMarkdownCell(e.reason)} | ${escapeMarkdownCell(approval)} | ${escapeMarkdownCell(perColumn(e))} |`,
     );

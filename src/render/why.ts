@@ -21,7 +21,7 @@ export function renderWhyText(history: CellHistory, paint: Paint = plain): strin
     lines.push(`  ${paint.cyan(e.file)} step ${e.step} (${e.stepKind}, line ${e.line})`);
     lines.push(`    ${describeChange(e, paint)}`);
     lines.push(`    reason:   ${e.reason}`);
-    const note = e.note ? `${e.approval} — ${e.note.approver}${e.note.role ? ` (${e.note.role})` : ''}, ${e.note.date}: ${e.note.approves}` : e.approval ? `${e.approval} ${paint.red('(note not found)')}` : paint.red('none');
+    const note = e.note ? `${e.approval} — ${e.approverName ?? e.note.approver}${e.note.role ? ` (${e.note.role})` : ''}, ${e.note.date}: ${e.note.approves}` : e.approval ? `${e.approval} ${paint.red('(note not found)')}` : paint.red('none');
     lines.push(`    approval: ${note}`);
     if (e.introduced) lines.push(paint.dim(`    committed ${e.introduced.commit.slice(0, 7)} by ${e.introduced.author} on ${e.introduced.date.slice(0, 10)}`));
     else lines.push(paint.dim('    not committed yet'));

@@ -152,7 +152,7 @@ describe('errata build on a small project', () => {
     expect(result.stdout).toMatch(/raw:\s+65\b/);
     expect(result.stdout).toContain('0001-inches.yaml step 1');
     expect(result.stdout).toContain('Heights under 90 were entered in inches');
-    expect(result.stdout).toContain('N-0001 — rkovac (principal investigator), 2026-01-03');
+    expect(result.stdout).toContain('N-0001 — Renata Kovac (principal investigator), 2026-01-03');
     expect(result.stdout).toMatch(/clean:\s+165\.1/);
     const json = JSON.parse((await errata(root, ['why', 'visits', '4', 'age', '--format', 'json'])).stdout);
     expect(json.raw.value).toBe('200');

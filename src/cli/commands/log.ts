@@ -2,6 +2,7 @@ import type { Command } from 'commander';
 import { auditTrail } from '../../audit/audit-trail.js';
 import { fileOrigins } from '../../audit/history.js';
 import { loadNotes } from '../../project/notes.js';
+import { loadPeople } from '../../project/people.js';
 import { renderAuditLog, type LogFormat } from '../../render/audit-log.js';
 import { buildWithProgress } from '../build-session.js';
 import { projectRoot, projectTree } from '../context.js';
@@ -21,7 +22,8 @@ export function registerLog(program: Command): void {
       const tree = await projectTree(root, options.rev);
       const build = await buildWithProgress(tree, root, output, table);
       try {
-        const entries = await auditTrail(build, await loadNotes(tree), await fileOrigins(tree));
+        const people = new Map((await loadPeople(tree)).map((p) => [p.id, p]));
+        const entries = await auditTrail(build, await loadNotes(tree), await fileOrigins(tree), people);
         output.out(renderAuditLog(entries, options.format, output.color));
       } finally {
         build.session.close();

@@ -2,6 +2,7 @@ import type { Command } from 'commander';
 import { fileOrigins } from '../../audit/history.js';
 import { explainCell } from '../../audit/why.js';
 import { loadNotes } from '../../project/notes.js';
+import { loadPeople } from '../../project/people.js';
 import { renderWhyJson, renderWhyText } from '../../render/why.js';
 import { buildWithProgress } from '../build-session.js';
 import { projectRoot, projectTree } from '../context.js';
@@ -25,7 +26,8 @@ export function registerWhy(program: Command): void {
       try {
         const notes = await loadNotes(tree);
         const origins = await fileOrigins(tree);
-        const history = await explainCell(build, { table, key: key.split(','), column }, notes, origins);
+        const people = new Map((await loadPeople(tree)).map((p) => [p.id, p]));
+        const history = await explainCell(build, { table, key: key.split(','), column }, notes, origins, people);
         output.out(options.format === 'json' ? renderWhyJson(history) : renderWhyText(history, output.color));
       } finally {
         build.session.close();
