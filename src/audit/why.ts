@@ -1,6 +1,7 @@
 import { ErrataError } from '../errors.js';
 import { keyExpression, keyText } from '../engine/keys.js';
 import { ident } from '../engine/sql.js';
+import { textSql } from '../engine/value-text.js';
 import type { ProjectBuild, TableBuild } from '../build/build-project.js';
 import type { ChangeKind } from '../corrections/apply-corrections.js';
 import type { ApprovalNote } from '../project/notes.js';
@@ -87,9 +88,10 @@ export async function explainCell(
     `SELECT ${rawColumn ? `CAST(${ident(rawColumn)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(table.rawTable)} WHERE ${keyExpression(config.key)} = $1`,
     [key],
   );
-  const columnFound = table.columns.some((c) => c.name === request.column);
+  const cleanColumn = table.columns.find((c) => c.name === request.column);
+  const columnFound = cleanColumn !== undefined;
   const cleanRow = await session.all<{ value: string | null }>(
-    `SELECT ${columnFound ? `CAST(${ident(request.column)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(table.cleanTable)} WHERE ${keyExpression(config.key)} = $1`,
+    `SELECT ${cleanColumn ? textSql(ident(cleanColumn.name), cleanColumn.type) : 'NULL'} AS value FROM ${ident(table.cleanTable)} WHERE ${keyExpression(config.key)} = $1`,
     [key],
   );
   if (rawRow.length === 0 && cleanRow.length === 0) {

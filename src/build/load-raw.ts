@@ -73,7 +73,7 @@ export async function loadRawTable(session: Session, tree: ProjectTree, table: T
       if (!columns.includes(k)) {
         throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
           hint: `Its columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml, or ask for a delivery with that column.`,
-          data: { file, column: k },
+          data: { file, line: 1, column: k },
         });
       }
     }

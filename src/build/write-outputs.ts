@@ -3,6 +3,7 @@ import { randomBytes } from 'node:crypto';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { ident, literal } from '../engine/sql.js';
+import { textSql } from '../engine/value-text.js';
 import { keyOrder } from './order.js';
 import { VERSION } from '../version.js';
 import { faultPoint } from '../fault.js';
@@ -79,7 +80,8 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   const name = table.config.name;
   const dataFile = path.join(stageDir, `${name}.csv`);
   const lineageFile = path.join(stageDir, `${name}.lineage.parquet`);
-  await session.run(`COPY (SELECT * FROM ${ident(table.cleanTable)} ORDER BY ${keyOrder(table.config.key)})
+  const select = table.columns.map((c) => `${textSql(`src.${ident(c.name)}`, c.type)} AS ${ident(c.name)}`).join(', ');
+  await session.run(`COPY (SELECT ${select} FROM ${ident(table.cleanTable)} AS src ORDER BY ${keyOrder(table.config.key, 'src')})
     TO ${literal(dataFile)} (FORMAT csv, HEADER true, DELIMITER ',', QUOTE '"', ESCAPE '"', NULL '', NEW_LINE '\\n')`);
   await session.run(`COPY (SELECT * FROM ${ident(table.lineageTable)}
       ORDER BY "correction", "step", "change", "key" NULLS FIRST, "column" NULLS FIRST, "old" NULLS FIRST)

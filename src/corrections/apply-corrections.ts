@@ -5,6 +5,7 @@ import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Params, Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
+import { textSql } from '../engine/value-text.js';
 import type { Correction, Step } from './types.js';
 
 /** What a lineage record says happened: to one cell, to a whole row, or to a whole column. */
@@ -150,7 +151,7 @@ class StepContext {
       const c = ident(column.name);
       await this.run(
         `INSERT INTO ${lineage}
-         SELECT ${this.keyExpr}, ${sqlText(column.name)}, CAST(${c} AS VARCHAR), CAST("__errata_new" AS VARCHAR),
+         SELECT ${this.keyExpr}, ${sqlText(column.name)}, ${textSql(c, column.type)}, ${textSql('"__errata_new"', column.type)},
                 ${sqlText(this.correction.id)}, ${this.number}, 'cell'
          FROM (SELECT *, CAST((${value}) AS ${column.type}) AS "__errata_new" FROM ${this.table} WHERE (${condition}))
          WHERE ${c} IS DISTINCT FROM "__errata_new"`,
@@ -187,6 +188,7 @@ async function applyStep(ctx: StepContext): Promise<Conflict[]> {
   const step = ctx.step;
   switch (step.kind) {
     case 'set': {
+      for (const a of step.assignments) await widenForFractions(ctx, ctx.changeable(a.column), a.expression);
       const assignments = step.assignments.map((a) => ({ column: ctx.changeable(a.column), value: a.expression }));
       await ctx.changeCells(assignments, step.where ?? 'true');
       return [];
@@ -199,7 +201,7 @@ async function applyStep(ctx: StepContext): Promise<Conflict[]> {
     case 'missing': {
       for (const name of step.columns) {
         const column = ctx.changeable(name);
-        const matches = step.values.map((_, i) => `TRY_CAST($${i + 1} AS ${column.type})`);
+        const matches = step.values.map((_, i) => typedValue(`$${i + 1}`, column.type));
         const byValue = matches.length ? `${ident(name)} IN (${matches.join(', ')})` : 'true';
         const condition = `(${byValue}) AND (${step.where ?? 'true'}) AND ${ident(name)} IS NOT NULL`;
         await ctx.changeCells([{ column, value: 'NULL' }], condition, step.values);
@@ -245,6 +247,19 @@ async function applyStep(ctx: StepContext): Promise<Conflict[]> {
 }
 
 /**
+ * A whole-number column given a fractional expression (inches × 2.54) becomes DOUBLE first, recorded
+ * as a column event, rather than silently rounding the new values.
+ */
+async function widenForFractions(ctx: StepContext, column: ColumnInfo, expression: string): Promise<void> {
+  if (valueTypeOf(column.type) !== 'integer') return;
+  const described = await ctx.all<{ column_type: string }>(`DESCRIBE SELECT (${expression}) AS v FROM ${ctx.table}`);
+  if (valueTypeOf(described[0]?.column_type ?? '') !== 'number') return;
+  await ctx.run(`ALTER TABLE ${ctx.table} ALTER ${ident(column.name)} SET DATA TYPE DOUBLE`);
+  await ctx.recordColumnEvent('column-retyped', column.name, column.type, 'DOUBLE');
+  await ctx.loadColumns();
+}
+
+/**
  * Guarded single-cell edits. All edits of the step are matched against the table in one join; an
  * edit whose row is gone or whose cell no longer holds `from` is a conflict and is not applied.
  */
@@ -269,7 +284,7 @@ async function applyEdits(ctx: StepContext, step: Extract<Step, { kind: 'edit' }
     const c = ident(name);
     const matched = await ctx.all<{ key: string; from: string | null; to: string | null; line: number; current: string | null; found: boolean; matches: boolean; fits: boolean }>(
       `SELECT e."key", e."from", e."to", e."line",
-              CAST(t.${c} AS VARCHAR) AS current,
+              ${textSql(`t.${c}`, type)} AS current,
               t."__errata_key" IS NOT NULL AS found,
               (t.${c} IS NOT DISTINCT FROM ${typedValue('e."from"', type)}) AS matches,
               (e."to" IS NULL OR ${typedValue('e."to"', type)} IS NOT NULL) AS fits
@@ -303,7 +318,7 @@ async function applyEdits(ctx: StepContext, step: Extract<Step, { kind: 'edit' }
     const source = `(SELECT * FROM (VALUES ${appliedValues}) AS e("key", "to"))`;
     await ctx.run(
       `INSERT INTO ${ident(ctx.options.lineage)}
-       SELECT ${keyExpression(ctx.options.key, 't')}, ${sqlText(name)}, CAST(t.${c} AS VARCHAR), CAST(${typedValue('e."to"', type)} AS VARCHAR),
+       SELECT ${keyExpression(ctx.options.key, 't')}, ${sqlText(name)}, ${textSql(`t.${c}`, type)}, ${textSql(typedValue('e."to"', type), type)},
               ${sqlText(ctx.correction.id)}, ${ctx.number}, 'cell'
        FROM ${ctx.table} AS t JOIN ${source} AS e ON ${keyExpression(ctx.options.key, 't')} = e."key"
        WHERE t.${c} IS DISTINCT FROM ${typedValue('e."to"', type)}`,
@@ -352,7 +367,8 @@ async function applyRecode(ctx: StepContext, step: Extract<Step, { kind: 'recode
   const match = (code: string) => (column.type === 'VARCHAR' ? `${c} = ${param(code)}` : `${c} = ${typedValue(param(code), column.type)}`);
   const whens = step.map.map((m) => `WHEN ${match(m.from)} THEN ${m.to === null ? 'NULL' : typedValue(param(m.to), column.type)}`);
   const otherwise = 'keep' in step.otherwise ? c : 'missing' in step.otherwise ? 'NULL' : typedValue(param(step.otherwise.value), column.type);
-  const expression = `CASE ${whens.join(' ')} ELSE ${otherwise} END`;
+  // Missing cells are not values: neither the map nor `else` touches them.
+  const expression = `CASE WHEN ${c} IS NULL THEN ${c} ${whens.join(' ')} ELSE ${otherwise} END`;
   await ctx.changeCells([{ column, value: expression }], 'true', params);
 }
 
@@ -366,7 +382,7 @@ async function applyConvert(ctx: StepContext, step: Extract<Step, { kind: 'conve
   const convert = source.type === 'VARCHAR' ? castTextSql(c, step.to) : `CAST(${c} AS ${target})`;
   const failing = `${c} IS NOT NULL AND NOT (${fits})`;
   const failures = await ctx.all<{ key: string; value: string; total: bigint }>(
-    `SELECT ${ctx.keyExpr} AS key, CAST(${c} AS VARCHAR) AS value, count(*) OVER () AS total
+    `SELECT ${ctx.keyExpr} AS key, ${textSql(c, source.type)} AS value, count(*) OVER () AS total
      FROM ${ctx.table} WHERE ${failing} ORDER BY ${ctx.options.key.map(ident).join(', ')} LIMIT 5`,
   );
   if (failures.length && step.invalid === 'error') {
@@ -381,7 +397,7 @@ async function applyConvert(ctx: StepContext, step: Extract<Step, { kind: 'conve
   if (failures.length) {
     await ctx.run(
       `INSERT INTO ${ident(ctx.options.lineage)}
-       SELECT ${ctx.keyExpr}, ${sqlText(step.as)}, CAST(${c} AS VARCHAR), NULL, ${sqlText(ctx.correction.id)}, ${ctx.number}, 'cell'
+       SELECT ${ctx.keyExpr}, ${sqlText(step.as)}, ${textSql(c, source.type)}, NULL, ${sqlText(ctx.correction.id)}, ${ctx.number}, 'cell'
        FROM ${ctx.table} WHERE ${failing}`,
     );
   }

@@ -1,6 +1,7 @@
 import { columnsOf } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
+import { textSql } from '../engine/value-text.js';
 import type { MultisetDiff, RowCount } from './types.js';
 
 /**
@@ -8,17 +9,20 @@ import type { MultisetDiff, RowCount } from './types.js';
  * columns. A row that occurs twice in old and once in new is "only in old" once.
  */
 export async function diffRowMultisets(session: Session, oldTable: string, newTable: string, options: { table?: string; rowLimit?: number } = {}): Promise<MultisetDiff> {
-  const oldColumns = (await columnsOf(session, oldTable)).map((c) => c.name);
-  const newColumns = (await columnsOf(session, newTable)).map((c) => c.name);
+  const oldInfo = await columnsOf(session, oldTable);
+  const newInfo = await columnsOf(session, newTable);
+  const oldColumns = oldInfo.map((c) => c.name);
+  const newColumns = newInfo.map((c) => c.name);
   const compared = newColumns.filter((c) => oldColumns.includes(c));
-  const cols = compared.map((c) => `CAST(${ident(c)} AS VARCHAR) AS ${ident(c)}`).join(', ');
-  const counted = (table: string) => `(SELECT ${cols}, count(*) AS "__n" FROM ${ident(table)} GROUP BY ALL)`;
+  const cols = (info: typeof oldInfo) =>
+    compared.map((c) => `${textSql(ident(c), info.find((i) => i.name === c)!.type)} AS ${ident(c)}`).join(', ');
+  const counted = (table: string, info: typeof oldInfo) => `(SELECT ${cols(info)}, count(*) AS "__n" FROM ${ident(table)} GROUP BY ALL)`;
   const on = compared.map((c) => `o.${ident(c)} IS NOT DISTINCT FROM n.${ident(c)}`).join(' AND ') || 'true';
   const pick = compared.map((c) => `COALESCE(o.${ident(c)}, n.${ident(c)}) AS ${ident(c)}`).join(', ');
   const work = `__multiset_${Math.random().toString(36).slice(2, 10)}`;
   await session.run(`CREATE TEMP TABLE ${ident(work)} AS
     SELECT ${pick}, COALESCE(o."__n", 0) AS "__old", COALESCE(n."__n", 0) AS "__new"
-    FROM ${counted(oldTable)} AS o FULL OUTER JOIN ${counted(newTable)} AS n ON ${on}
+    FROM ${counted(oldTable, oldInfo)} AS o FULL OUTER JOIN ${counted(newTable, newInfo)} AS n ON ${on}
     WHERE COALESCE(o."__n", 0) <> COALESCE(n."__n", 0)`);
   try {
     const totals = await session.one<Record<string, bigint>>(`

@@ -3,6 +3,7 @@ import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
+import { textSql } from '../engine/value-text.js';
 import type { CellChange, ColumnRetype, DiffSummary, TableDiff } from './types.js';
 
 export interface DiffOptions {
@@ -61,7 +62,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
              ${order.map((o, i) => `${o} AS "k${i}"`).join(', ')},
              o.${ident(key[0])} IS NULL AS "added",
              n.${ident(key[0])} IS NULL AS "removed",
-             ${[...flags, ...common.flatMap((c, i) => [`CAST(o.${ident(c.name)} AS VARCHAR) AS "o${i}"`, `CAST(n.${ident(c.name)} AS VARCHAR) AS "n${i}"`])].join(',\n             ')}
+             ${[...flags, ...common.flatMap((c, i) => [`${textSql(`o.${ident(c.name)}`, oldByName.get(c.name)!.type)} AS "o${i}"`, `${textSql(`n.${ident(c.name)}`, c.type)} AS "n${i}"`])].join(',\n             ')}
       FROM ${ident(oldTable)} AS o FULL OUTER JOIN ${ident(newTable)} AS n ON ${joinOn}
     ) WHERE "added" OR "removed" OR ${anyFlag}`);
   try {

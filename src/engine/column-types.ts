@@ -1,6 +1,7 @@
 import type { Session } from './session.js';
 import { ident } from './sql.js';
 import { keyExpression } from './keys.js';
+import { textSql } from './value-text.js';
 
 /** The value types errata works with, in Frictionless Table Schema's names. */
 export type ValueType = 'string' | 'integer' | 'number' | 'boolean' | 'date';
@@ -49,17 +50,19 @@ export interface ColumnTyping {
   misfits: number;
   /** The type the misfits stop the column from taking. */
   wanted?: ValueType;
+  /** The misfits are numbers that would print differently (trailing zeros, exponents), not non-numbers. */
+  rewritten?: boolean;
   examples: Array<{ key: string; value: string }>;
 }
 
 /**
  * Detection (unlike a declared type) never changes how a value is written: a column becomes a number
- * only if every value is a whole number or prints back exactly as delivered, so "1.50" or "1e3" keep
+ * only if every value prints back exactly as delivered (see value-text.ts), so "1.50" or "1e3" keep
  * their text.
  */
 const DETECTS_AS: Record<Exclude<ValueType, 'string'>, (v: string) => string> = {
   ...TEXT_FITS,
-  number: (v) => `(${TEXT_FITS.integer(v)} OR (${TEXT_FITS.number(v)} AND CAST(TRY_CAST(${v} AS DOUBLE) AS VARCHAR) = ${v}))`,
+  number: (v) => `(${TEXT_FITS.number(v)} AND ${textSql(`TRY_CAST(${v} AS DOUBLE)`, 'DOUBLE')} = ${v})`,
 };
 
 const DETECTION_ORDER: Exclude<ValueType, 'string'>[] = ['integer', 'number', 'boolean', 'date'];
@@ -110,28 +113,33 @@ export async function decideColumnTypes(
       typing = { column, declared: wantedType, type: misfits === 0 ? wantedType : 'string', misfits, wanted: misfits ? wantedType : undefined, examples: [] };
     } else {
       const full = n > 0 ? DETECTION_ORDER.find((type) => detects(type) === n) : undefined;
-      const mostly = full ? undefined : DETECTION_ORDER.find((type) => n > 0 && fits(type) >= MOSTLY * n);
+      // Every value is a number, but some would print differently (66.0 as 66): keep the text, say so.
+      const rewritten = !full && n > 0 && fits('number') === n;
+      const mostly = full || rewritten ? undefined : DETECTION_ORDER.find((type) => n > 0 && fits(type) >= MOSTLY * n);
       typing = {
         column,
         type: full ?? 'string',
-        misfits: mostly ? n - fits(mostly) : 0,
-        wanted: mostly,
+        misfits: rewritten ? n - detects('number') : mostly ? n - fits(mostly) : 0,
+        wanted: rewritten ? 'number' : mostly,
+        rewritten: rewritten || undefined,
         examples: [],
       };
     }
     if (typing.misfits > 0 && typing.wanted) {
-      typing.examples = await misfitExamples(session, table, key, column, typing.wanted);
+      const v = ident(column);
+      const misfit = typing.rewritten ? `NOT ${DETECTS_AS.number(v)}` : `NOT ${fitsTypeSql(v, typing.wanted)}`;
+      typing.examples = await misfitExamples(session, table, key, column, misfit);
     }
     result.push(typing);
   }
   return result;
 }
 
-async function misfitExamples(session: Session, table: string, key: readonly string[], column: string, type: ValueType) {
+async function misfitExamples(session: Session, table: string, key: readonly string[], column: string, misfit: string) {
   const v = ident(column);
   return session.all<{ key: string; value: string }>(`
     SELECT ${keyExpression(key)} AS key, ${v} AS value FROM ${ident(table)}
-    WHERE ${v} IS NOT NULL AND NOT ${fitsTypeSql(v, type)}
+    WHERE ${v} IS NOT NULL AND ${misfit}
     ORDER BY ${key.map(ident).join(', ')} LIMIT 5`);
 }
 

@@ -60,8 +60,14 @@ interface Statement {
   };
 }
 
-/** Functions that reach outside the row: files, settings, the catalogue, the environment. */
-const FORBIDDEN_FUNCTION = /^(read_|glob$|sniff_csv|parquet_|query$|query_table|current_setting|getenv|setseed$|nextval|currval|duckdb_|pragma_|which_secret|load_|install_|system$|export_|import_)/i;
+/**
+ * Functions that reach outside the row (files, settings, the catalogue, the environment) or whose value
+ * changes from run to run (clock, random numbers), which would make a rebuild differ from the build.
+ */
+const FORBIDDEN_FUNCTION =
+  /^(read_|glob$|sniff_csv|parquet_|query$|query_table|current_|getenv|setseed$|nextval|currval|duckdb_|pragma_|which_secret|load_|install_|system$|export_|import_|random$|uuid|gen_random_uuid$|now$|today$|get_current_|transaction_timestamp$|statement_timestamp$|localtime|localtimestamp)/i;
+
+const CLOCK_KEYWORD = /^(current_date|current_time|current_timestamp|localtime|localtimestamp|current_user|current_role|session_user)$/i;
 
 function findForbidden(node: unknown): string | null {
   if (Array.isArray(node)) {
@@ -80,6 +86,10 @@ function findForbidden(node: unknown): string | null {
   }
   if (record.class === 'COLUMN_REF' && Array.isArray(record.column_names) && record.column_names.length > 1) {
     return 'qualified names (table.column) are not allowed; name the column alone';
+  }
+  // SQL's clock keywords parse as bare names and only become functions when bound.
+  if (record.class === 'COLUMN_REF' && Array.isArray(record.column_names) && CLOCK_KEYWORD.test(String(record.column_names[0]))) {
+    return `${String(record.column_names[0])} changes from run to run, so a rebuild would differ`;
   }
   for (const value of Object.values(record)) {
     const found = findForbidden(value);

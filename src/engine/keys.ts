@@ -26,7 +26,7 @@ export async function assertKeyValid(session: Session, table: string, key: reado
     if (!columns.includes(k)) {
       throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in the file`, {
         hint: `The file's columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml or deliver a file with that column.`,
-        data: { file, column: k },
+        data: { file, line: 1, column: k },
       });
     }
   }
@@ -38,7 +38,7 @@ export async function assertKeyValid(session: Session, table: string, key: reado
     const rows = missing.map((m) => String(m.row)).join(', ');
     throw new ErrataError('KEY_MISSING', `${missing.length === 5 ? 'at least 5 rows have' : `${missing.length} row${missing.length > 1 ? 's have' : ' has'}`} no value in the key (${key.join(', ')}): data row ${rows}`, {
       hint: 'Every row needs a key value. Ask the data provider for the missing keys and deliver a corrected file.',
-      data: { file, column: key.join(','), rows: missing.map((m) => Number(m.row)) },
+      data: { file, line: lineOfRow(Number(missing[0].row)), column: key.join(','), rows: missing.map((m) => Number(m.row)) },
     });
   }
   const keyExpr = keyExpression(key);
@@ -51,7 +51,12 @@ export async function assertKeyValid(session: Session, table: string, key: reado
     const examples = duplicates.map((d) => `${d.key} (${d.count} rows: data rows ${d.rows.map(String).join(', ')})`).join('; ');
     throw new ErrataError('KEY_DUPLICATE', `the key (${key.join(', ')}) is not unique: ${examples}`, {
       hint: 'Each key must identify one row. Ask the data provider which row is right, or choose a key of several columns in errata.yaml.',
-      data: { file, column: key.join(','), examples: duplicates.map((d) => d.key) },
+      data: { file, line: lineOfRow(Number(duplicates[0].rows[1])), column: key.join(','), examples: duplicates.map((d) => d.key) },
     });
   }
+}
+
+/** The file line of a data row, counting the header as line 1; exact unless a quoted field spans lines. */
+function lineOfRow(row: number): number {
+  return row + 1;
 }

@@ -182,7 +182,7 @@ async function loadParquet(session: Session, input: InputFile, target: string): 
   try {
     await session.runRaw(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(input.localPath)})`);
   } catch (error) {
-    throw new ErrataError('INPUT_FORMAT', `not a readable Parquet file: ${(error as Error).message.split('\n')[0]}`, {
+    throw new ErrataError('INPUT_FORMAT', `not a readable Parquet file: ${(error as Error).message.split('\n')[0].replaceAll(input.localPath, input.name)}`, {
       hint: 'Check that the file is complete Parquet (not CSV renamed), or set `format:` for the table in errata.yaml.',
       data: { file: input.name },
     });
@@ -202,7 +202,7 @@ async function loadJsonLines(session: Session, input: InputFile, target: string)
   } catch (error) {
     const message = (error as Error).message;
     const line = Number(/line (\d+)/i.exec(message)?.[1] ?? 0) || undefined;
-    throw new ErrataError('INPUT_FORMAT', `not valid JSON lines: ${message.split('\n')[0]}`, {
+    throw new ErrataError('INPUT_FORMAT', `not valid JSON lines: ${message.split('\n')[0].replaceAll(input.localPath, input.name)}`, {
       hint: 'Each line must hold one JSON object; fix or re-export the file.',
       data: { file: input.name, line },
     });

@@ -17,7 +17,7 @@ export class YamlFile {
     const document = parseDocument(text, { lineCounter: lines, prettyErrors: false, uniqueKeys: true });
     const problem = document.errors[0];
     if (problem) {
-      const line = problem.linePos?.[0]?.line ?? 1;
+      const line = problem.linePos?.[0]?.line ?? lines.linePos(problem.pos[0]).line;
       throw new ErrataError('YAML_INVALID', `not valid YAML: ${problem.message.split('\n')[0]}`, {
         hint: 'Fix the YAML syntax at the line shown (indentation, quoting, a missing colon).',
         data: { file, line },

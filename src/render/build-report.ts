@@ -7,9 +7,14 @@ export function renderTypeProblems(tables: readonly TableBuild[]): string {
   const lines: string[] = [];
   for (const table of tables) {
     for (const t of table.typeProblems) {
-      const why = t.declared ? `declared ${t.declared} in ${table.config.codebook}` : `mostly ${t.wanted}`;
       const examples = t.examples.map((e) => `${e.key}: ${showValue(e.value)}`).join(', ');
-      lines.push(`warning: ${table.config.name}.${t.column} is ${why}, but ${t.misfits} value${t.misfits > 1 ? 's do' : ' does'} not fit, so it stays text (${examples}${t.misfits > t.examples.length ? ', ...' : ''}). Write a correction for them.`);
+      const more = t.misfits > t.examples.length ? ', ...' : '';
+      if (t.rewritten) {
+        lines.push(`note: ${table.config.name}.${t.column} holds only numbers, but ${t.misfits} would print differently as a number (${examples}${more}), so it stays text. Declare it \`type: number\` in ${table.config.codebook} to make it numeric.`);
+        continue;
+      }
+      const why = t.declared ? `declared ${t.declared} in ${table.config.codebook}` : `mostly ${t.wanted}`;
+      lines.push(`warning: ${table.config.name}.${t.column} is ${why}, but ${t.misfits} value${t.misfits > 1 ? 's do' : ' does'} not fit, so it stays text (${examples}${more}). Write a correction for them.`);
     }
   }
   return lines.join('\n');

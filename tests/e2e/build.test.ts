@@ -89,7 +89,7 @@ describe('errata build on a small project', () => {
         'pid,age,height_cm,weight_kg,smoker,site',
         '1,34,170.2,70.5,1,007',
         '2,,165.1,71.2,2,012',
-        '3,41,180.0,80.0,9,007',
+        '3,41,180,80,9,007',
         '5,52,167.6,81.5,2,012',
       ].join('\n') + '\n',
     );
@@ -189,7 +189,7 @@ describe('conflicts', () => {
     try {
       const result = await errata(root, ['build']);
       expect(result.code).toBe(1);
-      expect(result.stderr).toContain('corrections/visits/0001-weight.yaml:5: (3, weight_kg) expected 8.0, found 80.0');
+      expect(result.stderr).toContain('corrections/visits/0001-weight.yaml:5: (3, weight_kg) expected 8.0, found 80');
       expect(existsSync(path.join(root, 'clean/visits.csv'))).toBe(false);
       const allowed = await errata(root, ['build', '--allow-conflicts']);
       expect(allowed.code).toBe(1);
