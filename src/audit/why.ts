@@ -82,10 +82,12 @@ export async function explainCell(
   }
   relevant.reverse();
 
-  const rawColumns = await session.all<{ column_name: string }>(`SELECT column_name FROM duckdb_columns() WHERE table_name = $1`, [table.rawTable]);
+  if (!table.rawTable) throw new Error('explainCell needs a build that kept the raw tables (keepRaw)');
+  const rawTable = table.rawTable;
+  const rawColumns = await session.all<{ column_name: string }>(`SELECT column_name FROM duckdb_columns() WHERE table_name = $1`, [rawTable]);
   if (rawColumn && !rawColumns.some((c) => c.column_name === rawColumn)) rawColumn = null;
   const rawRow = await session.all<{ value: string | null }>(
-    `SELECT ${rawColumn ? `CAST(${ident(rawColumn)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(table.rawTable)} WHERE ${keyExpression(config.key)} = $1`,
+    `SELECT ${rawColumn ? `CAST(${ident(rawColumn)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(rawTable)} WHERE ${keyExpression(config.key)} = $1`,
     [key],
   );
   const cleanColumn = table.columns.find((c) => c.name === request.column);

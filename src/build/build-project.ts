@@ -26,6 +26,8 @@ export interface BuildOptions {
   memoryLimit?: string;
   /** Parsed deliveries cached by git blob id (see load-raw.ts); absent: no cache. */
   cache?: RawCache;
+  /** Keep the raw tables in the session (for why); default true. */
+  keepRaw?: boolean;
   onProgress?: (event: BuildProgress) => void;
 }
 
@@ -42,7 +44,8 @@ export interface TableBuild {
   typeProblems: ColumnTyping[];
   columns: ColumnInfo[];
   rows: number;
-  rawTable: string;
+  /** The raw delivery as loaded, or null when the build did not keep it. */
+  rawTable: string | null;
   cleanTable: string;
   lineageTable: string;
 }
@@ -115,7 +118,7 @@ export async function prepareProject(
 export async function correctProject(
   session: Session,
   prepared: PreparedProject,
-  options: { onProgress?: (event: BuildProgress) => void } = {},
+  options: { onProgress?: (event: BuildProgress) => void; keepRaw?: boolean } = {},
 ): Promise<TableBuild[]> {
   const builds: TableBuild[] = [];
   const { prefix } = prepared;
@@ -123,8 +126,12 @@ export async function correctProject(
     const declared = declaredTypes(codebook);
     const clean = cleanName(table, prefix);
     const lineage = lineageName(table, prefix);
-    await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table, prefix))}`);
-    await applyColumnTypes(session, clean, await decideColumnTypes(session, clean, table.key, declared));
+    // The raw table is kept only when asked (why shows raw values); otherwise it becomes the clean one.
+    const keepRaw = options.keepRaw ?? true;
+    if (keepRaw) await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table, prefix))}`);
+    else await session.run(`ALTER TABLE ${ident(rawName(table, prefix))} RENAME TO ${ident(clean)}`);
+    const loadedTypes = await decideColumnTypes(session, clean, table.key, declared);
+    await applyColumnTypes(session, clean, loadedTypes);
     await createLineageTable(session, lineage);
     const conflicts = await applyCorrections(session, corrections, {
       table: clean,
@@ -132,9 +139,13 @@ export async function correctProject(
       lineage,
       onStep: (e) => options.onProgress?.({ phase: 'correct', table: table.name, correction: e.correction, index: e.index, total: e.total }),
     });
-    // Corrections may have made a text column fit its type (e.g. after sentinels became missing).
-    const finalTypes = await decideColumnTypes(session, clean, table.key, declared);
-    await applyColumnTypes(session, clean, finalTypes);
+    // Corrections may have made a text column fit its type (e.g. after sentinels became missing);
+    // only the columns they touched can have changed, so only those are looked at again.
+    const touched = await touchedColumns(session, lineage);
+    const retyped = await decideColumnTypes(session, clean, table.key, declared, { only: touched });
+    await applyColumnTypes(session, clean, retyped);
+    const present = new Set((await columnsOf(session, clean)).map((c) => c.name));
+    const finalTypes = [...loadedTypes.filter((t) => !touched.has(t.column) && present.has(t.column)), ...retyped];
     const rows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(clean)}`);
     builds.push({
       config: table,
@@ -146,12 +157,20 @@ export async function correctProject(
       typeProblems: finalTypes.filter((t) => t.misfits > 0),
       columns: await columnsOf(session, clean),
       rows: Number(rows.n),
-      rawTable: rawName(table, prefix),
+      rawTable: keepRaw ? rawName(table, prefix) : null,
       cleanTable: clean,
       lineageTable: lineage,
     });
   }
   return builds;
+}
+
+/** Columns a build's corrections changed or created, by their current names. */
+async function touchedColumns(session: Session, lineage: string): Promise<Set<string>> {
+  const rows = await session.all<{ name: string }>(`
+    SELECT DISTINCT CASE WHEN "change" = 'column-renamed' THEN "new" ELSE "column" END AS name
+    FROM ${ident(lineage)} WHERE "column" IS NOT NULL`);
+  return new Set(rows.map((r) => r.name));
 }
 
 function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {

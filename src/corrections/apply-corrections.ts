@@ -238,7 +238,9 @@ async function applyStep(ctx: StepContext): Promise<Conflict[]> {
     case 'derive':
       for (const { name, expression } of step.columns) {
         ctx.assertNew(name);
-        await ctx.run(`CREATE OR REPLACE TABLE ${ctx.table} AS SELECT *, (${expression}) AS ${ident(name)} FROM ${ctx.table}`);
+        const described = await ctx.all<{ column_type: string }>(`DESCRIBE SELECT (${expression}) AS v FROM ${ctx.table}`);
+        await ctx.run(`ALTER TABLE ${ctx.table} ADD COLUMN ${ident(name)} ${described[0].column_type}`);
+        await ctx.run(`UPDATE ${ctx.table} SET ${ident(name)} = (${expression})`);
         await ctx.recordColumnEvent('column-added', name, null, expression);
         await ctx.loadColumns();
       }
@@ -367,9 +369,12 @@ async function applyRecode(ctx: StepContext, step: Extract<Step, { kind: 'recode
   const match = (code: string) => (column.type === 'VARCHAR' ? `${c} = ${param(code)}` : `${c} = ${typedValue(param(code), column.type)}`);
   const whens = step.map.map((m) => `WHEN ${match(m.from)} THEN ${m.to === null ? 'NULL' : typedValue(param(m.to), column.type)}`);
   const otherwise = 'keep' in step.otherwise ? c : 'missing' in step.otherwise ? 'NULL' : typedValue(param(step.otherwise.value), column.type);
-  // Missing cells are not values: neither the map nor `else` touches them.
+  // Missing cells are not values: neither the map nor `else` touches them. With `else: keep` only
+  // rows holding a mapped code can change, so only those are visited.
   const expression = `CASE WHEN ${c} IS NULL THEN ${c} ${whens.join(' ')} ELSE ${otherwise} END`;
-  await ctx.changeCells([{ column, value: expression }], 'true', params);
+  const mapped = () => step.map.map((m) => (column.type === 'VARCHAR' ? param(m.from) : typedValue(param(m.from), column.type)));
+  const condition = 'keep' in step.otherwise ? `${c} IN (${mapped().join(', ')})` : `${c} IS NOT NULL`;
+  await ctx.changeCells([{ column, value: expression }], condition, params);
 }
 
 async function applyConvert(ctx: StepContext, step: Extract<Step, { kind: 'convert' }>): Promise<void> {
@@ -402,10 +407,11 @@ async function applyConvert(ctx: StepContext, step: Extract<Step, { kind: 'conve
     );
   }
   if (step.as === step.column) {
-    await ctx.run(`CREATE OR REPLACE TABLE ${ctx.table} AS SELECT * REPLACE (${converted} AS ${c}) FROM ${ctx.table}`);
+    await ctx.run(`ALTER TABLE ${ctx.table} ALTER ${c} SET DATA TYPE ${target} USING ${converted}`);
     await ctx.recordColumnEvent('column-retyped', step.column, source.type, target);
   } else {
-    await ctx.run(`CREATE OR REPLACE TABLE ${ctx.table} AS SELECT *, ${converted} AS ${ident(step.as)} FROM ${ctx.table}`);
+    await ctx.run(`ALTER TABLE ${ctx.table} ADD COLUMN ${ident(step.as)} ${target}`);
+    await ctx.run(`UPDATE ${ctx.table} SET ${ident(step.as)} = ${converted}`);
     await ctx.recordColumnEvent('column-added', step.as, step.column, target);
   }
 }

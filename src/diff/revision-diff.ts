@@ -97,7 +97,7 @@ async function finish(session: Session, prepared: PreparedProject | null, option
     }
     return out;
   }
-  const builds: TableBuild[] = await correctProject(session, prepared, { onProgress: options.onProgress });
+  const builds: TableBuild[] = await correctProject(session, prepared, { onProgress: options.onProgress, keepRaw: false });
   for (const b of builds) out.set(b.config.name, { table: b.cleanTable, key: b.config.key, lineage: b.lineageTable, conflicts: b.conflicts });
   return out;
 }

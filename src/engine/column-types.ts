@@ -19,11 +19,17 @@ export const SQL_TYPE: Record<ValueType, string> = {
  * "12.0" as an integer and "1e3" as 1000: a value must look like its type to take it. A leading zero
  * ("007") makes a value a code, not a number, so it keeps its text.
  */
+const INTEGER_TEXT = `'-?(0|[1-9][0-9]{0,17})'`;
+const NUMBER_TEXT = `'-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?'`;
+const DATE_TEXT = `'[0-9]{4}-[0-9]{2}-[0-9]{2}'`;
+
+// A failed TRY_CAST costs far more than a regex, so each cast runs only where the pattern matched
+// (CASE evaluates a branch only for the rows that reach it; AND does not promise that).
 const TEXT_FITS: Record<Exclude<ValueType, 'string'>, (v: string) => string> = {
-  integer: (v) => `(regexp_full_match(${v}, '-?(0|[1-9][0-9]{0,17})'))`,
-  number: (v) => `(regexp_full_match(${v}, '-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?') AND TRY_CAST(${v} AS DOUBLE) IS NOT NULL)`,
+  integer: (v) => `regexp_full_match(${v}, ${INTEGER_TEXT})`,
+  number: (v) => `(CASE WHEN regexp_full_match(${v}, ${NUMBER_TEXT}) THEN TRY_CAST(${v} AS DOUBLE) IS NOT NULL ELSE false END)`,
   boolean: (v) => `(lower(${v}) IN ('true', 'false'))`,
-  date: (v) => `(regexp_full_match(${v}, '[0-9]{4}-[0-9]{2}-[0-9]{2}') AND TRY_CAST(${v} AS DATE) IS NOT NULL)`,
+  date: (v) => `(CASE WHEN regexp_full_match(${v}, ${DATE_TEXT}) THEN TRY_CAST(${v} AS DATE) IS NOT NULL ELSE false END)`,
 };
 
 /** SQL that is true when a text value fits `type` (always true for string). */
@@ -62,7 +68,8 @@ export interface ColumnTyping {
  */
 const DETECTS_AS: Record<Exclude<ValueType, 'string'>, (v: string) => string> = {
   ...TEXT_FITS,
-  number: (v) => `(${TEXT_FITS.number(v)} AND ${textSql(`TRY_CAST(${v} AS DOUBLE)`, 'DOUBLE')} = ${v})`,
+  number: (v) => `(CASE WHEN regexp_full_match(${v}, ${INTEGER_TEXT}) THEN true
+    WHEN regexp_full_match(${v}, ${NUMBER_TEXT}) THEN ${textSql(`TRY_CAST(${v} AS DOUBLE)`, 'DOUBLE')} = ${v} ELSE false END)`,
 };
 
 const DETECTION_ORDER: Exclude<ValueType, 'string'>[] = ['integer', 'number', 'boolean', 'date'];
@@ -83,24 +90,31 @@ export async function decideColumnTypes(
   table: string,
   key: readonly string[],
   declared: ReadonlyMap<string, ValueType>,
-  options: { preserveText?: boolean } = {},
+  options: { preserveText?: boolean; only?: ReadonlySet<string> } = {},
 ): Promise<ColumnTyping[]> {
   const preserveText = options.preserveText ?? true;
   const columns = await session.all<{ column_name: string; data_type: string }>(
     `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
     [table],
   );
-  const text = columns.filter((c) => c.data_type === 'VARCHAR').map((c) => c.column_name);
+  const text = columns.filter((c) => c.data_type === 'VARCHAR' && (!options.only || options.only.has(c.column_name))).map((c) => c.column_name);
   if (text.length === 0) return [];
-  const aggregates = text.flatMap((name, i) => {
-    const v = ident(name);
-    return [
-      `count(${v}) AS n${i}`,
-      ...DETECTION_ORDER.map((type) => `count(*) FILTER (WHERE ${TEXT_FITS[type](v)}) AS ${type}${i}`),
-      `count(*) FILTER (WHERE ${DETECTS_AS.number(v)}) AS exactnumber${i}`,
+  // Each check runs once per distinct value (weighted by its count), not once per row: coded
+  // columns have few distinct values, and the checks cost more than the grouping.
+  const perColumn = text.map((name, i) => {
+    const checks = [
+      ...DETECTION_ORDER.map((type) => `COALESCE(sum(k) FILTER (WHERE ${TEXT_FITS[type]('v')}), 0) AS "${type}"`),
+      `COALESCE(sum(k) FILTER (WHERE ${DETECTS_AS.number('v')}), 0) AS "exactnumber"`,
     ];
+    return `SELECT ${i} AS i, COALESCE(sum(k) FILTER (WHERE v IS NOT NULL), 0) AS n, ${checks.join(', ')}
+      FROM (SELECT ${ident(name)} AS v, count(*) AS k FROM ${ident(table)} GROUP BY ALL)`;
   });
-  const counts = await session.one<Record<string, bigint>>(`SELECT ${aggregates.join(',\n')} FROM ${ident(table)}`);
+  const rows = await session.all<Record<string, number | bigint>>(perColumn.join('\nUNION ALL\n'));
+  const counts: Record<string, number> = {};
+  for (const row of rows) {
+    const i = Number(row.i);
+    for (const [name, value] of Object.entries(row)) if (name !== 'i') counts[`${name}${i}`] = Number(value);
+  }
   const result: ColumnTyping[] = [];
   for (const [i, column] of text.entries()) {
     const n = Number(counts[`n${i}`]);
@@ -143,11 +157,12 @@ async function misfitExamples(session: Session, table: string, key: readonly str
     ORDER BY ${key.map(ident).join(', ')} LIMIT 5`);
 }
 
-/** Cast the columns whose decided type is not text, in one rewrite of the table. */
+/** Cast the columns whose decided type is not text, each in place (the rest of the table is untouched). */
 export async function applyColumnTypes(session: Session, table: string, typings: readonly ColumnTyping[]): Promise<void> {
-  const casts = typings.filter((t) => t.type !== 'string').map((t) => `${castTextSql(ident(t.column), t.type)} AS ${ident(t.column)}`);
-  if (casts.length === 0) return;
-  await session.run(`CREATE OR REPLACE TABLE ${ident(table)} AS SELECT * REPLACE (${casts.join(', ')}) FROM ${ident(table)}`);
+  for (const t of typings.filter((typing) => typing.type !== 'string')) {
+    const c = ident(t.column);
+    await session.run(`ALTER TABLE ${ident(table)} ALTER ${c} SET DATA TYPE ${SQL_TYPE[t.type]} USING ${castTextSql(c, t.type)}`);
+  }
 }
 
 /** The errata type of a DuckDB column type. */

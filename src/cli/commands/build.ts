@@ -24,7 +24,7 @@ export function registerBuild(program: Command, setExit: (code: number) => void)
         });
       }
       const tree = await projectTree(root, options.rev);
-      const build = await buildWithProgress(tree, root, output, table);
+      const build = await buildWithProgress(tree, root, output, table, { keepRaw: false });
       try {
         reportProblems(build, output);
         if (build.conflicts.length && !options.allowConflicts) {

@@ -16,7 +16,7 @@ export function registerVerify(program: Command, setExit: (code: number) => void
       const output = createOutput(program.opts());
       const root = await projectRoot();
       const tree = await projectTree(root, options.rev);
-      const build = await buildWithProgress(tree, root, output);
+      const build = await buildWithProgress(tree, root, output, undefined, { keepRaw: false });
       try {
         if (build.conflicts.length) {
           output.err(renderConflicts(build.conflicts));
