@@ -1,0 +1,206 @@
+/**
+ * Build benchmark: `errata build` on a one-million-row table with 30 corrections, against a plain
+ * DuckDB read-CSV/write-CSV of the same file.
+ *
+ *   npx tsc -p . && npx tsx bench/build.ts [--rows N] [--seed S] [--runs R]
+ *
+ * The project is generated once under bench/out/ and reused. The build runs as the real command line
+ * in a child process (so its time includes start-up); its peak memory is the child's maximum resident
+ * set size. With --runs R each side runs R times and the median is reported.
+ */
+import { spawn } from 'node:child_process';
+import { createReadStream, existsSync, mkdirSync, readFileSync, rmSync, statSync } from 'node:fs';
+import { availableParallelism, loadavg } from 'node:os';
+import path from 'node:path';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { COLUMNS, OUT_DIR, REPO_ROOT, TABLE, ensureProject } from './project.js';
+
+const TARGET_RATIO = 3;
+const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
+const TIME = '/usr/bin/time';
+
+interface Args {
+  rows: number;
+  seed: number;
+  runs: number;
+}
+
+function parseArgs(argv: string[]): Args {
+  const args: Args = { rows: 1_000_000, seed: 20260115, runs: 1 };
+  for (let i = 0; i < argv.length; i += 1) {
+    const [flag, inline] = argv[i].split('=', 2);
+    const value = () => Number(inline ?? argv[++i]);
+    if (flag === '--rows') args.rows = value();
+    else if (flag === '--seed') args.seed = value();
+    else if (flag === '--runs') args.runs = value();
+    else throw new Error(`unknown option ${argv[i]} (known: --rows N, --seed S, --runs R)`);
+  }
+  for (const [name, v] of Object.entries(args)) {
+    if (!Number.isInteger(v) || v < 1) throw new Error(`--${name} must be a positive whole number`);
+  }
+  return args;
+}
+
+const log = (line: string) => process.stderr.write(`${line}\n`);
+const seconds = (ms: number) => ms / 1000;
+const median = (values: number[]) => {
+  const sorted = [...values].sort((a, b) => a - b);
+  const mid = Math.floor(sorted.length / 2);
+  return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+};
+
+/** Read the file once so both sides start from a warm page cache. */
+async function warm(file: string): Promise<void> {
+  for await (const _ of createReadStream(file, { highWaterMark: 1 << 22 })) {
+    /* discard */
+  }
+}
+
+interface BuildRun {
+  ms: number;
+  /** Peak resident set size of the build process, in bytes (null when it could not be measured). */
+  peakRss: number | null;
+  rssSource: string;
+  stdout: string;
+  stderr: string;
+}
+
+/**
+ * Run `errata build` in `root` as a child process. Under /usr/bin/time -v when present (its report
+ * goes to a file, so the command's own stderr stays clean); otherwise by polling VmHWM in /proc.
+ */
+function runBuild(root: string): Promise<BuildRun> {
+  const useTime = existsSync(TIME);
+  const timeReport = path.join(OUT_DIR, `time-${process.pid}.txt`);
+  const command = useTime ? TIME : process.execPath;
+  const args = useTime ? ['-v', '-o', timeReport, process.execPath, CLI, 'build', '--quiet'] : [CLI, 'build', '--quiet'];
+  return new Promise((resolve, reject) => {
+    const started = performance.now();
+    const child = spawn(command, args, { cwd: root, env: { ...process.env, NO_COLOR: '1' }, stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.on('data', (d) => (stdout += d));
+    child.stderr.on('data', (d) => (stderr += d));
+    let polledPeak = 0;
+    const poll = useTime
+      ? null
+      : setInterval(() => {
+          try {
+            const status = readFileSync(`/proc/${child.pid}/status`, 'utf8');
+            const kb = Number(/VmHWM:\s+(\d+) kB/.exec(status)?.[1] ?? 0);
+            polledPeak = Math.max(polledPeak, kb * 1024);
+          } catch {
+            /* gone */
+          }
+        }, 20);
+    child.on('error', reject);
+    child.on('close', (code) => {
+      const ms = performance.now() - started;
+      if (poll) clearInterval(poll);
+      let peakRss: number | null = polledPeak || null;
+      if (useTime && existsSync(timeReport)) {
+        const report = readFileSync(timeReport, 'utf8');
+        rmSync(timeReport, { force: true });
+        const kb = Number(/Maximum resident set size \(kbytes\): (\d+)/.exec(report)?.[1] ?? NaN);
+        peakRss = Number.isFinite(kb) ? kb * 1024 : null;
+      }
+      if (code !== 0) {
+        reject(new Error(`errata build exited with ${code}\n${stdout}${stderr}`));
+        return;
+      }
+      resolve({ ms, peakRss, rssSource: useTime ? '/usr/bin/time -v' : '/proc VmHWM polling', stdout, stderr });
+    });
+  });
+}
+
+/** Plain DuckDB: one COPY (SELECT * FROM read_csv(...)) TO ... in a fresh in-memory instance. */
+async function runBaseline(rawFile: string, outFile: string): Promise<number> {
+  rmSync(outFile, { force: true });
+  const started = performance.now();
+  const instance = await DuckDBInstance.create(':memory:');
+  const connection = await instance.connect();
+  const quote = (s: string) => `'${s.replaceAll("'", "''")}'`;
+  await connection.run(`COPY (SELECT * FROM read_csv(${quote(rawFile)})) TO ${quote(outFile)} (FORMAT csv, HEADER true)`);
+  connection.closeSync();
+  instance.closeSync();
+  const ms = performance.now() - started;
+  if (!existsSync(outFile) || statSync(outFile).size === 0) throw new Error('the baseline wrote nothing');
+  return ms;
+}
+
+interface ManifestFigures {
+  rows: number;
+  columns: number;
+  lineage: number;
+  corrections: number;
+}
+
+function readManifest(root: string): ManifestFigures {
+  const manifest = JSON.parse(readFileSync(path.join(root, 'clean', 'manifest.json'), 'utf8'));
+  const table = manifest.tables[TABLE];
+  return {
+    rows: table.outputs.data.rows,
+    columns: table.outputs.data.columns,
+    lineage: table.outputs.lineage.records,
+    corrections: table.sources.filter((s: { path: string }) => s.path.startsWith(`corrections/${TABLE}/`)).length,
+  };
+}
+
+async function main(): Promise<void> {
+  const args = parseArgs(process.argv.slice(2));
+  if (!existsSync(path.join(REPO_ROOT, 'dist', 'cli', 'main.js'))) {
+    throw new Error('dist/ is missing: compile first with `npx tsc -p .`');
+  }
+  mkdirSync(OUT_DIR, { recursive: true });
+  const project = await ensureProject({ rows: args.rows, seed: args.seed, log });
+  log(`${project.reused ? 'reusing' : 'generated'} ${path.relative(REPO_ROOT, project.root)} (raw CSV ${(project.rawBytes / 2 ** 20).toFixed(1)} MiB)`);
+  await warm(project.rawFile);
+  const loadBefore = loadavg()[0];
+
+  const baselineOut = path.join(OUT_DIR, `baseline-${process.pid}.csv`);
+  const baselineMs: number[] = [];
+  const builds: BuildRun[] = [];
+  try {
+    for (let run = 1; run <= args.runs; run += 1) {
+      log(`run ${run}/${args.runs}: baseline…`);
+      baselineMs.push(await runBaseline(project.rawFile, baselineOut));
+      log(`  baseline ${seconds(baselineMs[baselineMs.length - 1]).toFixed(2)} s; errata build…`);
+      builds.push(await runBuild(project.root));
+      log(`  build ${seconds(builds[builds.length - 1].ms).toFixed(2)} s`);
+    }
+  } finally {
+    rmSync(baselineOut, { force: true });
+  }
+  const last = builds[builds.length - 1];
+  if (last.stderr.trim()) log(`build messages:\n${last.stderr.trim()}`);
+
+  const figures = readManifest(project.root);
+  const buildS = seconds(median(builds.map((b) => b.ms)));
+  const baselineS = seconds(median(baselineMs));
+  const ratio = buildS / baselineS;
+  const peaks = builds.map((b) => b.peakRss).filter((p): p is number => p !== null);
+  const peak = peaks.length ? Math.max(...peaks) : null;
+  const line = (label: string, value: string) => console.log(`${label.padEnd(26)} ${value}`);
+
+  line('rows', figures.rows.toLocaleString('en-US'));
+  line('columns (raw)', String(COLUMNS.length));
+  line('columns (clean)', String(figures.columns));
+  line('corrections', String(figures.corrections));
+  line('lineage records', figures.lineage.toLocaleString('en-US'));
+  line('build seconds', `${buildS.toFixed(2)}${args.runs > 1 ? ` (median of ${args.runs})` : ''}`);
+  line('rows per second', Math.round(figures.rows / buildS).toLocaleString('en-US'));
+  line('baseline seconds', `${baselineS.toFixed(2)}${args.runs > 1 ? ` (median of ${args.runs})` : ''}`);
+  line('ratio build/baseline', ratio.toFixed(2));
+  line('build peak memory', peak === null ? 'not measured' : `${(peak / 2 ** 20).toFixed(0)} MiB (max RSS, ${last.rssSource})`);
+  line('machine', `${availableParallelism()} CPUs, 1-minute load average ${loadBefore.toFixed(2)} before, ${loadavg()[0].toFixed(2)} after (other work on the machine slows both sides)`);
+  console.log(
+    ratio <= TARGET_RATIO
+      ? `TARGET MET: build is ${ratio.toFixed(2)}x the baseline (target at most ${TARGET_RATIO}x)`
+      : `TARGET MISSED: build is ${ratio.toFixed(2)}x the baseline (target at most ${TARGET_RATIO}x)`,
+  );
+}
+
+main().catch((error) => {
+  console.error(error instanceof Error ? error.message : error);
+  process.exitCode = 1;
+});
