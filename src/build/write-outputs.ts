@@ -84,7 +84,7 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   await session.run(`COPY (SELECT ${select} FROM ${ident(table.cleanTable)} AS src ORDER BY ${keyOrder(table.config.key, 'src')})
     TO ${literal(dataFile)} (FORMAT csv, HEADER true, DELIMITER ',', QUOTE '"', ESCAPE '"', NULL '', NEW_LINE '\\n')`);
   await session.run(`COPY (SELECT * FROM ${ident(table.lineageTable)}
-      ORDER BY "correction", "step", "change", "key" NULLS FIRST, "column" NULLS FIRST, "old" NULLS FIRST)
+      ORDER BY "correction", "step", "key" NULLS FIRST, "column" NULLS FIRST, "change")
     TO ${literal(lineageFile)} (FORMAT parquet, COMPRESSION zstd, ROW_GROUP_SIZE 1000000)`);
   const records = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(table.lineageTable)}`);
   files.set(table.config.output, dataFile);
