@@ -76,4 +76,6 @@ for (const [index, step] of steps.entries()) {
 }
 console.log('');
 console.log(bold('All steps passed.'));
-console.log(`The project stays in ${project}: cd there and try \`errata why\` on other cells, or \`git log\`.`);
+console.log(`The project stays in ${project}. To explore it:`);
+console.log(`  cd ${project} && node ${cli} why baseline KV-00264 cigarettes_per_day`);
+console.log('  (or `npm link` once in this checkout, then plain `errata …` works anywhere)');
