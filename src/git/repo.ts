@@ -227,3 +227,31 @@ export async function hasCommits(dir: string): Promise<boolean> {
     return false;
   }
 }
+
+/** The best common ancestor of two commits, or null when they share no history. */
+export async function mergeBase(dir: string, a: string, b: string): Promise<string | null> {
+  const bases = (await git.findMergeBase({ ...at(dir), oids: [a, b] })) as string[];
+  return bases[0] ?? null;
+}
+
+/**
+ * Commits reachable from `head` but not from `base`, oldest first: what a pull request from base to
+ * head adds.
+ */
+export async function commitsBetween(dir: string, base: string, head: string): Promise<CommitInfo[]> {
+  const known = new Set((await commitLog(dir, base)).map((c) => c.oid));
+  return (await commitLog(dir, head)).filter((c) => !known.has(c.oid)).reverse();
+}
+
+/** The name of an existing main branch: main, else master, else null. */
+export async function mainBranch(dir: string): Promise<string | null> {
+  for (const name of ['main', 'master', 'origin/main', 'origin/master']) {
+    try {
+      await git.resolveRef({ ...at(dir), ref: name });
+      return name;
+    } catch {
+      /* try the next */
+    }
+  }
+  return null;
+}

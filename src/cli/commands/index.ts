@@ -2,6 +2,7 @@ import type { Command } from 'commander';
 import { registerBuild } from './build.js';
 import { registerDiff } from './diff.js';
 import { registerGitSetup } from './git-setup.js';
+import { registerReview } from './review.js';
 import { registerInit } from './init.js';
 import { registerLog } from './log.js';
 import { registerVerify } from './verify.js';
@@ -10,4 +11,4 @@ import { registerWhy } from './why.js';
 /** Registers a command on the program; `setExit` records the exit code of a run that found something. */
 export type RegisterCommand = (program: Command, setExit: (code: number) => void) => void;
 
-export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup];
+export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup, registerReview];

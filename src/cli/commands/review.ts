@@ -1,0 +1,48 @@
+import path from 'node:path';
+import type { Command } from 'commander';
+import { ErrataError } from '../../errors.js';
+import { mainBranch, mergeBase, resolveRevision } from '../../git/repo.js';
+import { reviewRange } from '../../review/review-range.js';
+import { renderReview, reviewPassed, type ReviewFormat } from '../../render/review.js';
+import { projectRoot, workDir } from '../context.js';
+import { createOutput } from '../output.js';
+import { formatOption } from '../options.js';
+
+export function registerReview(program: Command, setExit: (code: number) => void): void {
+  program
+    .command('review')
+    .description('check that every changed cell in a range traces to an approved correction or a new delivery, and that history rules hold (exit 1 on findings)')
+    .argument('[range]', 'BASE..HEAD (default: from the merge base with the main branch to HEAD)')
+    .addOption(formatOption(['text', 'markdown', 'json'], 'text'))
+    .action(async (range: string | undefined, options: { format: ReviewFormat }) => {
+      const output = createOutput(program.opts());
+      const root = await projectRoot();
+      const { base, head } = await resolveRange(root, range);
+      const result = await reviewRange({
+        root,
+        base,
+        head,
+        workDir: workDir(root),
+        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        onProgress: (e) => output.progress(e.phase === 'review' ? `reviewing ${e.step}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
+      });
+      output.endProgress();
+      output.out(renderReview(result, options.format, output.color));
+      if (!reviewPassed(result)) setExit(1);
+    });
+}
+
+async function resolveRange(root: string, range: string | undefined): Promise<{ base: string; head: string }> {
+  if (range?.includes('..')) {
+    const [base, head] = range.split(/\.\.\.?/);
+    return { base: await resolveRevision(root, base || 'HEAD'), head: await resolveRevision(root, head || 'HEAD') };
+  }
+  const head = await resolveRevision(root, range ?? 'HEAD');
+  const main = await mainBranch(root);
+  if (!main) {
+    throw new ErrataError('USAGE', 'no main branch to review against', { hint: 'Give the range explicitly, e.g. errata review origin/main..HEAD.' });
+  }
+  const base = await mergeBase(root, await resolveRevision(root, main), head);
+  if (!base) throw new ErrataError('USAGE', `HEAD shares no history with ${main}`, { hint: 'Give the range explicitly: errata review BASE..HEAD.' });
+  return { base, head };
+}
