@@ -255,3 +255,24 @@ export async function mainBranch(dir: string): Promise<string | null> {
   }
   return null;
 }
+
+/**
+ * Who commits: the repository's user.name/user.email, else GIT_AUTHOR_NAME/GIT_AUTHOR_EMAIL, else the
+ * user's ~/.gitconfig (isomorphic-git reads only the repository's own config).
+ */
+export async function commitAuthor(dir: string): Promise<Author | null> {
+  const local = await configuredAuthor(dir);
+  let name = local.name ?? process.env.GIT_AUTHOR_NAME;
+  let email = local.email ?? process.env.GIT_AUTHOR_EMAIL;
+  if (!name || !email) {
+    const home = process.env.HOME ?? '';
+    const file = path.join(home, '.gitconfig');
+    if (home && fs.existsSync(file)) {
+      const text = fs.readFileSync(file, 'utf8');
+      const user = /\[user\]([^[]*)/.exec(text)?.[1] ?? '';
+      name ??= /^\s*name\s*=\s*(.+?)\s*$/m.exec(user)?.[1];
+      email ??= /^\s*email\s*=\s*(.+?)\s*$/m.exec(user)?.[1];
+    }
+  }
+  return name && email ? { name, email } : null;
+}
