@@ -35,7 +35,7 @@ export interface ReviewResult {
   base: string;
   head: string;
   commits: number;
-  /** Cells that differ between the clean data at base and at head. */
+  /** Cells that differ between the clean data at base and at head, plus rows added or removed. */
   cellsChanged: number;
   /** Of those, explained by a correction added in the range, or by a new raw delivery. */
   cellsByCorrection: number;
