@@ -21,6 +21,11 @@ export interface DiffOptions {
    * types but shown as their original text. Columns not named compare by their SQL type.
    */
   compareTypes?: { old: ReadonlyMap<string, ValueType>; new: ReadonlyMap<string, ValueType> };
+  /**
+   * Also keep every changed cell in a session table of this name ("key", "column", "old", "new"), for
+   * callers that go on in SQL (the review) rather than in JavaScript.
+   */
+  cellTable?: string;
 }
 
 /** A column with the type its values are compared as. */
@@ -139,6 +144,9 @@ async function changedCells(session: Session, work: string, common: ColumnInfo[]
   );
   const limit = options.cellLimit !== undefined ? `LIMIT ${Math.max(0, Math.floor(options.cellLimit))}` : '';
   const cells = `(${perColumn.join(' UNION ALL ')})`;
+  if (options.cellTable) {
+    await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(options.cellTable)} AS SELECT "key", "column", "old", "new" FROM ${cells}`);
+  }
   // A cell's producer is the last correction that set it; failing that, the one that made its column
   // (a derived or converted column's values come from the step that created it).
   const attribution = options.lineage

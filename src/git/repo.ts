@@ -276,3 +276,17 @@ export async function commitAuthor(dir: string): Promise<Author | null> {
   }
   return name && email ? { name, email } : null;
 }
+
+/** A file's blob id at a commit from its folder's tree entry, without reading the blob itself. */
+export async function blobIdAt(dir: string, commit: string, filepath: string): Promise<string | null> {
+  const slash = filepath.lastIndexOf('/');
+  const folder = slash < 0 ? '' : filepath.slice(0, slash);
+  const name = filepath.slice(slash + 1);
+  try {
+    const { tree } = await git.readTree({ ...at(dir), oid: commit, filepath: folder || undefined });
+    return tree.find((entry) => entry.path === name && entry.type === 'blob')?.oid ?? null;
+  } catch (error) {
+    if ((error as { code?: string }).code === 'NotFoundError') return null;
+    throw error;
+  }
+}

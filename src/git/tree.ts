@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
+import { blobIdAt, listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
 
 /**
  * The project's files as they stand somewhere: the working tree, or a commit read straight from git
@@ -90,10 +90,11 @@ export class RevisionTree implements ProjectTree {
   }
 
   async localPath(filepath: string): Promise<string> {
-    const blob = await readBlobAt(this.root, this.commit, filepath);
-    if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
-    const target = path.join(this.blobDir, `${blob.oid}${path.extname(filepath)}`);
+    const oid = await this.blobId(filepath);
+    const target = path.join(this.blobDir, `${oid}${path.extname(filepath)}`);
     if (!existsSync(target)) {
+      const blob = await readBlobAt(this.root, this.commit, filepath);
+      if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
       mkdirSync(this.blobDir, { recursive: true });
       const temp = `${target}.${process.pid}.tmp`;
       writeFileSync(temp, blob.content);
@@ -103,9 +104,9 @@ export class RevisionTree implements ProjectTree {
   }
 
   async blobId(filepath: string): Promise<string> {
-    const blob = await readBlobAt(this.root, this.commit, filepath);
-    if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
-    return blob.oid;
+    const oid = await blobIdAt(this.root, this.commit, filepath);
+    if (!oid) throw new Error(`${filepath} does not exist at ${this.label}`);
+    return oid;
   }
 }
 

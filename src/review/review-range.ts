@@ -48,8 +48,12 @@ export async function reviewRange(options: ReviewOptions): Promise<ReviewResult>
     });
     const headPrepared: PreparedProject = await prepare(headTree, 'h_');
     await session.lockDown([options.workDir]);
-    const baseTables = basePrepared ? await correctProject(session, basePrepared, { onProgress: options.onProgress }) : [];
-    const headTables = await correctProject(session, headPrepared, { onProgress: options.onProgress });
+    // Raw tables are needed only to credit a new delivery; when every input is the same blob at both
+    // ends there is none, and the build need not keep them.
+    const inputsOf = (p: PreparedProject | null) => JSON.stringify((p?.tables ?? []).map((t) => [t.table.name, t.inputs.map((i) => i.blob)]));
+    const rawChanged = inputsOf(basePrepared) !== inputsOf(headPrepared);
+    const baseTables = basePrepared ? await correctProject(session, basePrepared, { onProgress: options.onProgress, keepRaw: rawChanged }) : [];
+    const headTables = await correctProject(session, headPrepared, { onProgress: options.onProgress, keepRaw: rawChanged });
 
     const baseBlobs = new Map((basePrepared?.tables ?? []).flatMap((t) => t.sources.map((s) => [s.path, s.blob] as const)));
     const addedBy = await firstCommitOf(root, commits);
@@ -77,7 +81,7 @@ export async function reviewRange(options: ReviewOptions): Promise<ReviewResult>
         });
       }
       const before = baseTables.find((t: TableBuild) => t.config.name === table.config.name);
-      const cells = await explainChangedCells(session, before, table, new Set(fresh.map((c) => c.id)));
+      const cells = await explainChangedCells(session, before, table, new Set(fresh.map((c) => c.id)), { rawChanged });
       cellsChanged += cells.cellsChanged;
       byCorrection += cells.byCorrection;
       byDelivery += cells.byDelivery;
