@@ -9,8 +9,11 @@ import { registerInit } from './init.js';
 import { registerLog } from './log.js';
 import { registerVerify } from './verify.js';
 import { registerWhy } from './why.js';
+import { registerProfile } from './profile.js';
+import { registerCheck } from './check.js';
+import { registerCodebook } from './codebook.js';
 
 /** Registers a command on the program; `setExit` records the exit code of a run that found something. */
 export type RegisterCommand = (program: Command, setExit: (code: number) => void) => void;
 
-export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup, registerReview, registerFix, registerNote];
+export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup, registerReview, registerFix, registerNote, registerProfile, registerCheck, registerCodebook];

@@ -1,0 +1,62 @@
+import { existsSync, mkdirSync, renameSync, unlinkSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import type { Command } from 'commander';
+import { ErrataError } from '../../errors.js';
+import { draftCodebook } from '../../check/draft-codebook.js';
+import { WorkingTree } from '../../git/tree.js';
+import { projectRoot, workDir } from '../context.js';
+import { createOutput } from '../output.js';
+
+interface DraftOptions {
+  out?: string;
+  force?: boolean;
+}
+
+export function registerCodebook(program: Command): void {
+  const codebook = program.command('codebook').description("codebooks: each table's variables, types, allowed values and rules");
+  codebook
+    .command('draft')
+    .description('propose a codebook from the raw delivery, for you to edit (never overwrites one without --force)')
+    .argument('<table>', 'table name')
+    .option('--out <file>', "write here instead of the table's codebook path from errata.yaml (- for standard output)")
+    .option('--force', 'replace an existing codebook')
+    .action(async (table: string, options: DraftOptions) => {
+      const output = createOutput(program.opts());
+      const root = await projectRoot();
+      output.progress(`drafting a codebook for ${table}…`);
+      const draft = await draftCodebook({
+        tree: new WorkingTree(root),
+        table,
+        workDir: workDir(root),
+        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+      });
+      output.endProgress();
+      if (options.out === '-') {
+        output.out(draft.text);
+        return;
+      }
+      const target = options.out ? path.resolve(options.out) : path.join(root, draft.file);
+      const shown = path.relative(process.cwd(), target) || target;
+      if (existsSync(target) && !options.force) {
+        throw new ErrataError('OUTPUT_WRITE', `${shown} already exists; a draft never replaces a codebook on its own`, {
+          hint: 'Pass --force to replace it, --out FILE to write the draft elsewhere, or --out - to print it.',
+          data: { file: shown },
+        });
+      }
+      writeAtomically(target, draft.text);
+      output.out(`wrote ${shown}: a draft from the raw data; review every field before relying on errata check`);
+    });
+}
+
+/** Write to a temporary file beside the target, then rename it into place. */
+function writeAtomically(target: string, text: string): void {
+  mkdirSync(path.dirname(target), { recursive: true });
+  const temp = `${target}.${process.pid}.tmp`;
+  try {
+    writeFileSync(temp, text);
+    renameSync(temp, target);
+  } catch (error) {
+    if (existsSync(temp)) unlinkSync(temp);
+    throw new ErrataError('OUTPUT_WRITE', `cannot write ${target}: ${(error as Error).message}`, { hint: 'Check that the folder is writable.', data: { file: target }, cause: error });
+  }
+}

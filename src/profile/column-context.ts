@@ -1,0 +1,120 @@
+import { fitsTypeSql, type ValueType } from '../engine/column-types.js';
+import type { Params, Session } from '../engine/session.js';
+import { ident } from '../engine/sql.js';
+import type { CodebookField } from '../project/codebook.js';
+import type { ValueCount } from './types.js';
+
+/** How a text column's values divide between numbers and the rest (counts of non-missing rows). */
+export interface TextShape {
+  n: number;
+  numbers: number;
+  integers: number;
+}
+
+/** Everything the analyses of one column need: where it is, how to name its rows, what its codebook says. */
+export interface ColumnContext {
+  session: Session;
+  table: string;
+  column: string;
+  sqlType: string;
+  type: ValueType;
+  /** SQL giving a row's key as text. */
+  keySql: string;
+  /** SQL ORDER BY list putting rows in key order. */
+  keyOrder: string;
+  field: CodebookField | undefined;
+  /** Texts the codebook declares missing for this column (the empty text left out: it is loaded as missing). */
+  missingCodes: string[];
+  /** The column quoted. */
+  v: string;
+  /** SQL giving the value as errata writes it. */
+  text: string;
+  /** For a text column, how many of its values are numbers; null for other columns. */
+  shape: TextShape | null;
+}
+
+/** How many example keys a flag carries. */
+export const EXAMPLE_KEYS = 5;
+/** How many distinct values a flag lists. */
+export const LISTED_VALUES = 10;
+
+/*
+ * A "value condition" below is SQL that refers to the row only through the column's value (ctx.v), so
+ * it can be evaluated once per distinct value instead of once per row: a regular expression over a
+ * million rows of a five-code column then runs five times.
+ */
+
+/** The column's distinct values with their counts, as a subquery with columns ctx.v and `countAlias(ctx)`. */
+function distinctValues(ctx: ColumnContext): string {
+  return `(SELECT ${ctx.v}, count(*) AS ${countAlias(ctx)} FROM ${ident(ctx.table)} GROUP BY ${ctx.v})`;
+}
+
+/** A name for the count column that cannot be the column's own. */
+function countAlias(ctx: ColumnContext): string {
+  return ident(ctx.column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding');
+}
+
+/** A row condition equivalent to a value condition, with the value condition evaluated per distinct value. */
+export function rowsWhere(ctx: ColumnContext, valueCondition: string): string {
+  return `${ctx.v} IN (SELECT ${ctx.v} FROM ${distinctValues(ctx)} WHERE ${valueCondition})`;
+}
+
+/** Keys of the first rows (in key order) whose value meets `valueCondition`. */
+export async function exampleKeys(ctx: ColumnContext, valueCondition: string, params: Params = []): Promise<string[]> {
+  const rows = await ctx.session.all<{ key: string }>(
+    `SELECT ${ctx.keySql} AS key
+     FROM ${ident(ctx.table)}
+     WHERE ${rowsWhere(ctx, valueCondition)}
+     ORDER BY ${ctx.keyOrder}
+     LIMIT ${EXAMPLE_KEYS}`,
+    params,
+  );
+  return rows.map((r) => r.key);
+}
+
+/** Distinct values (as text) meeting `valueCondition`, most frequent first; the rows and distinct values in all. */
+export async function valuesWhere(ctx: ColumnContext, valueCondition: string, params: Params = []): Promise<{ values: ValueCount[]; count: number; distinct: number }> {
+  const rows = await ctx.session.all<{ value: string; count: bigint; total: bigint; kinds: bigint }>(
+    `SELECT value, count, sum(count) OVER () AS total, count(*) OVER () AS kinds
+     FROM (
+       SELECT ${ctx.text} AS value, ${countAlias(ctx)} AS count
+       FROM ${distinctValues(ctx)}
+       WHERE ${valueCondition})
+     ORDER BY count DESC, value
+     LIMIT ${LISTED_VALUES}`,
+    params,
+  );
+  return {
+    values: rows.map((r) => ({ value: r.value, count: Number(r.count) })),
+    count: rows.length ? Number(rows[0].total) : 0,
+    distinct: rows.length ? Number(rows[0].kinds) : 0,
+  };
+}
+
+/** Count a text column's numbers and whole numbers, each check once per distinct value. */
+export async function textShape(session: Session, table: string, column: string): Promise<TextShape> {
+  const v = ident(column);
+  const k = ident(column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding');
+  const row = await session.one<{ n: bigint | null; numbers: bigint | null; integers: bigint | null }>(
+    `SELECT
+       sum(${k}) AS n,
+       sum(${k}) FILTER (WHERE ${fitsTypeSql(v, 'number')}) AS numbers,
+       sum(${k}) FILTER (WHERE ${fitsTypeSql(v, 'integer')}) AS integers
+     FROM (SELECT ${v}, count(*) AS ${k} FROM ${ident(table)} WHERE ${v} IS NOT NULL GROUP BY ${v})`,
+  );
+  return { n: Number(row.n ?? 0), numbers: Number(row.numbers ?? 0), integers: Number(row.integers ?? 0) };
+}
+
+/** `$first, $first+1, …` placeholders for a list of values passed as parameters. */
+export function placeholders(count: number, first = 1): string {
+  return Array.from({ length: count }, (_, i) => `$${first + i}`).join(', ');
+}
+
+/** A value in a message: as it is, or quoted when white space at either end (or nothing) would hide it. */
+export function shown(value: string): string {
+  return value === '' || /^\s|\s$/.test(value) ? JSON.stringify(value) : value;
+}
+
+export function plural(count: number, one: string, many = `${one}s`): string {
+  return `${count} ${count === 1 ? one : many}`;
+}

@@ -1,0 +1,110 @@
+import path from 'node:path';
+import { correctProject, prepareProject, rawName, type BuildProgress } from '../build/build-project.js';
+import type { RawCache } from '../build/load-raw.js';
+import type { Conflict } from '../corrections/apply-corrections.js';
+import { applyColumnTypes, decideColumnTypes, type ValueType } from '../engine/column-types.js';
+import { Session } from '../engine/session.js';
+import { ident } from '../engine/sql.js';
+import type { ProjectTree } from '../git/tree.js';
+import type { Codebook } from '../project/codebook.js';
+import { profileTable } from './profile-table.js';
+import type { TableProfile } from './types.js';
+
+export type ProfileProgress = BuildProgress | { phase: 'profile'; table: string; side: 'raw' | 'clean' };
+
+export interface ProjectProfileOptions {
+  tree: ProjectTree;
+  /** One table; every table when absent. */
+  table?: string;
+  /** Profile the raw deliveries, as loaded and typed, before any correction. */
+  raw: boolean;
+  /** Profile the clean data: raw plus corrections, built in memory. */
+  clean: boolean;
+  /** Where DuckDB may spill; the only folder SQL can touch once inputs are loaded. */
+  workDir: string;
+  memoryLimit?: string;
+  cache?: RawCache;
+  onProgress?: (event: ProfileProgress) => void;
+}
+
+export interface ProjectTableProfile {
+  name: string;
+  raw: TableProfile | null;
+  clean: TableProfile | null;
+  /** Clean column name → the raw column it came from, for columns a correction renamed or converted. */
+  renamed: Record<string, string>;
+}
+
+export interface ProjectProfile {
+  tables: ProjectTableProfile[];
+  /** Guarded edits that no longer match; the clean profile describes the build with them left out. */
+  conflicts: Conflict[];
+}
+
+/**
+ * Profile a project's tables as raw deliveries, clean builds, or both (for a comparison), in one
+ * session: the deliveries are loaded once, the raw side is typed the way the build types it (the
+ * codebook's declared types where every value fits, else what every value fits), and the clean side is
+ * built with the corrections. Nothing is written.
+ *
+ * @example
+ *   const { tables } = await profileProject({ tree, raw: true, clean: true, workDir: '.errata/tmp' });
+ *   compareProfiles(tables[0].raw!, tables[0].clean!, tables[0].renamed);
+ */
+export async function profileProject(options: ProjectProfileOptions): Promise<ProjectProfile> {
+  const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit ?? '2GB' });
+  try {
+    const prepared = await prepareProject(session, options.tree, { table: options.table, cache: options.cache, onProgress: options.onProgress });
+    await session.lockDown([options.workDir]);
+    const raw = new Map<string, TableProfile>();
+    if (options.raw) {
+      for (const { table, codebook } of prepared.tables) {
+        options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
+        // Typed in a copy when the clean side still needs the delivery as text.
+        const typed = options.clean ? `${prepared.prefix}profiled_raw_${table.name}` : rawName(table, prepared.prefix);
+        if (options.clean) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(rawName(table, prepared.prefix))}`);
+        await applyColumnTypes(session, typed, await decideColumnTypes(session, typed, table.key, declaredTypes(codebook)));
+        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook }));
+        if (options.clean) await session.run(`DROP TABLE ${ident(typed)}`);
+      }
+    }
+    const tables: ProjectTableProfile[] = prepared.tables.map(({ table }) => ({ name: table.name, raw: raw.get(table.name) ?? null, clean: null, renamed: {} }));
+    if (!options.clean) return { tables, conflicts: [] };
+    const builds = await correctProject(session, prepared, { keepRaw: false, onProgress: options.onProgress });
+    for (const [i, build] of builds.entries()) {
+      options.onProgress?.({ phase: 'profile', table: build.config.name, side: 'clean' });
+      tables[i].clean = await profileTable(session, build.cleanTable, { name: build.config.name, source: 'clean', key: build.config.key, codebook: build.codebook });
+      tables[i].renamed = await renamedColumns(session, build.lineageTable);
+    }
+    return { tables, conflicts: builds.flatMap((b) => b.conflicts) };
+  } finally {
+    session.close();
+  }
+}
+
+function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {
+  return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as ValueType]));
+}
+
+/**
+ * Follow the lineage's column events in the order they applied, back from each final name to the raw
+ * column it came from: renames, and typed copies (`convert … as`) of a raw column.
+ */
+async function renamedColumns(session: Session, lineage: string): Promise<Record<string, string>> {
+  const events = await session.all<{ change: string; column: string; old: string | null; new: string }>(
+    `SELECT "change", "column", "old", "new"
+     FROM ${ident(lineage)}
+     WHERE "change" = 'column-renamed' OR ("change" = 'column-added' AND "old" IS NOT NULL)
+     ORDER BY rowid`,
+  );
+  const origin = new Map<string, string>();
+  for (const e of events) {
+    if (e.change === 'column-renamed') {
+      origin.set(e.new, origin.get(e.old!) ?? e.old!);
+      origin.delete(e.old!);
+    } else {
+      origin.set(e.column, origin.get(e.old!) ?? e.old!);
+    }
+  }
+  return Object.fromEntries([...origin].filter(([now, was]) => now !== was));
+}
