@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { errata, REPO_ROOT } from '../helpers/project.js';
 
-const COMMANDS = ['init', 'build', 'verify', 'why', 'log', 'diff', 'git-setup', 'review', 'fix', 'note'];
+const COMMANDS = ['init', 'build', 'verify', 'why', 'log', 'diff', 'git-setup', 'review', 'fix', 'note', 'profile', 'check', 'codebook'];
 
 describe('command line help', () => {
   it('lists every command in the top-level help', async () => {
