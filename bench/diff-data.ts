@@ -13,6 +13,7 @@
  */
 import { closeSync, existsSync, mkdirSync, openSync, readFileSync, renameSync, rmSync, statSync, writeFileSync, writeSync } from 'node:fs';
 import path from 'node:path';
+import { splitmix32 } from './splitmix.js';
 
 /** Bump when the generator changes, so pairs already on disk are regenerated rather than reused. */
 const GENERATOR_VERSION = 1;
@@ -58,18 +59,6 @@ export interface DiffPair {
 // ---------------------------------------------------------------------------------------------
 // Seeded randomness: one splitmix32 stream for the values, another for the edits, both sequential.
 
-function splitmix32(seed: number): () => number {
-  let a = seed | 0;
-  return () => {
-    a = (a + 0x9e3779b9) | 0;
-    let t = a ^ (a >>> 16);
-    t = Math.imul(t, 0x21f0aaad);
-    t ^= t >>> 15;
-    t = Math.imul(t, 0x735a2d97);
-    t ^= t >>> 15;
-    return (t >>> 0) / 4294967296;
-  };
-}
 
 // ---------------------------------------------------------------------------------------------
 // Values. A cell is held as a number: an index into a list of codes or dates, a whole number, or a

@@ -10,6 +10,7 @@ import { closeSync, existsSync, mkdirSync, openSync, readFileSync, rmSync, write
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { commitAll, hasCommits, initRepo } from '../src/git/repo.js';
+import { splitmix32 } from './splitmix.js';
 
 export const BENCH_DIR = path.dirname(fileURLToPath(import.meta.url));
 export const REPO_ROOT = path.resolve(BENCH_DIR, '..');
@@ -43,17 +44,6 @@ export interface BenchProject {
 // Seeded randomness: splitmix32 derives an independent stream per row from (seed, row), so any
 // row can be regenerated on its own (the guarded edits need the exact values of a few rows).
 
-function splitmix32(a: number): () => number {
-  return () => {
-    a = (a + 0x9e3779b9) | 0;
-    let t = a ^ (a >>> 16);
-    t = Math.imul(t, 0x21f0aaad);
-    t ^= t >>> 15;
-    t = Math.imul(t, 0x735a2d97);
-    t ^= t >>> 15;
-    return (t >>> 0) / 4294967296;
-  };
-}
 
 function streamFor(seed: number, index: number, salt = 0): () => number {
   const mix = splitmix32((seed ^ Math.imul(index + 1, 0x85ebca6b) ^ Math.imul(salt + 1, 0xc2b2ae35)) | 0);
