@@ -1,3 +1,4 @@
+import { rmSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { loadTypedFile } from '../engine/load-typed.js';
@@ -17,10 +18,8 @@ export interface FileDiffOptions {
 
 /** Diff two files outside any project (`errata diff --files OLD NEW`). */
 export async function diffFiles(oldFile: string, newFile: string, options: FileDiffOptions): Promise<TableDiff | MultisetDiff> {
-  const session = await Session.open({
-    memoryLimit: options.memoryLimit ?? '2GB',
-    spillDir: options.spillDir ?? path.join(os.tmpdir(), `errata-spill-${process.pid}`),
-  });
+  const spillDir = options.spillDir ?? path.join(os.tmpdir(), `errata-spill-${process.pid}`);
+  const session = await Session.open({ memoryLimit: options.memoryLimit ?? '2GB', spillDir });
   try {
     const key = options.key ?? [];
     // Kept as delivered text: compared by the types decided over each whole column, shown as written.
@@ -37,5 +36,6 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
     });
   } finally {
     session.close();
+    if (!options.spillDir) rmSync(spillDir, { recursive: true, force: true });
   }
 }

@@ -119,10 +119,13 @@ function differs(newColumn: Compared, oldColumn: Compared, tolerance?: number): 
   const o = comparable(`o.${ident(oldColumn.name)}`, oldColumn, newColumn.as);
   const n = comparable(`n.${ident(newColumn.name)}`, newColumn, oldColumn.as);
   const bothNumeric = NUMERIC.has(oldColumn.as) && NUMERIC.has(newColumn.as);
-  if (bothNumeric && tolerance !== undefined && tolerance > 0) {
-    return `((${o}) IS NULL) <> ((${n}) IS NULL) OR abs((${o}) - (${n})) > ${Number(tolerance)}`;
-  }
-  return `(${o}) IS DISTINCT FROM (${n})`;
+  const typed =
+    bothNumeric && tolerance !== undefined && tolerance > 0
+      ? `((${o}) IS NULL) <> ((${n}) IS NULL) OR abs((${o}) - (${n})) > ${Number(tolerance)}`
+      : `(${o}) IS DISTINCT FROM (${n})`;
+  // Equal stored values are equal under any comparison, so the typed one runs only where they differ.
+  if (oldColumn.type !== newColumn.type) return typed;
+  return `(CASE WHEN o.${ident(oldColumn.name)} IS NOT DISTINCT FROM n.${ident(newColumn.name)} THEN false ELSE (${typed}) END)`;
 }
 
 /**
