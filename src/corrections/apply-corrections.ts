@@ -4,7 +4,7 @@ import { assertSafeExpression } from '../engine/expression-guard.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Params, Session } from '../engine/session.js';
-import { ident } from '../engine/sql.js';
+import { ident, literal } from '../engine/sql.js';
 import { textSql } from '../engine/value-text.js';
 import type { Correction, Step } from './types.js';
 
@@ -151,8 +151,8 @@ class StepContext {
       const c = ident(column.name);
       await this.run(
         `INSERT INTO ${lineage}
-         SELECT ${this.keyExpr}, ${sqlText(column.name)}, ${textSql(c, column.type)}, ${textSql('"__errata_new"', column.type)},
-                ${sqlText(this.correction.id)}, ${this.number}, 'cell'
+         SELECT ${this.keyExpr}, ${literal(column.name)}, ${textSql(c, column.type)}, ${textSql('"__errata_new"', column.type)},
+                ${literal(this.correction.id)}, ${this.number}, 'cell'
          FROM (SELECT *, CAST((${value}) AS ${column.type}) AS "__errata_new" FROM ${this.table} WHERE (${condition}))
          WHERE ${c} IS DISTINCT FROM "__errata_new"`,
         params,
@@ -174,9 +174,6 @@ class StepContext {
   }
 }
 
-function sqlText(value: string): string {
-  return `'${value.replaceAll("'", "''")}'`;
-}
 
 function engineMessage(error: unknown): string {
   const message = error instanceof Error ? error.message : String(error);
@@ -230,7 +227,7 @@ async function applyStep(ctx: StepContext): Promise<Conflict[]> {
     case 'delete':
       await ctx.run(
         `INSERT INTO ${ident(ctx.options.lineage)}
-         SELECT ${ctx.keyExpr}, NULL, CAST(to_json(r) AS VARCHAR), NULL, ${sqlText(ctx.correction.id)}, ${ctx.number}, 'row-deleted'
+         SELECT ${ctx.keyExpr}, NULL, CAST(to_json(r) AS VARCHAR), NULL, ${literal(ctx.correction.id)}, ${ctx.number}, 'row-deleted'
          FROM ${ctx.table} AS r WHERE (${step.where})`,
       );
       await ctx.run(`DELETE FROM ${ctx.table} WHERE (${step.where})`);
@@ -320,8 +317,8 @@ async function applyEdits(ctx: StepContext, step: Extract<Step, { kind: 'edit' }
     const source = `(SELECT * FROM (VALUES ${appliedValues}) AS e("key", "to"))`;
     await ctx.run(
       `INSERT INTO ${ident(ctx.options.lineage)}
-       SELECT ${keyExpression(ctx.options.key, 't')}, ${sqlText(name)}, ${textSql(`t.${c}`, type)}, ${textSql(typedValue('e."to"', type), type)},
-              ${sqlText(ctx.correction.id)}, ${ctx.number}, 'cell'
+       SELECT ${keyExpression(ctx.options.key, 't')}, ${literal(name)}, ${textSql(`t.${c}`, type)}, ${textSql(typedValue('e."to"', type), type)},
+              ${literal(ctx.correction.id)}, ${ctx.number}, 'cell'
        FROM ${ctx.table} AS t JOIN ${source} AS e ON ${keyExpression(ctx.options.key, 't')} = e."key"
        WHERE t.${c} IS DISTINCT FROM ${typedValue('e."to"', type)}`,
       appliedParams,
@@ -402,7 +399,7 @@ async function applyConvert(ctx: StepContext, step: Extract<Step, { kind: 'conve
   if (failures.length) {
     await ctx.run(
       `INSERT INTO ${ident(ctx.options.lineage)}
-       SELECT ${ctx.keyExpr}, ${sqlText(step.as)}, ${textSql(c, source.type)}, NULL, ${sqlText(ctx.correction.id)}, ${ctx.number}, 'cell'
+       SELECT ${ctx.keyExpr}, ${literal(step.as)}, ${textSql(c, source.type)}, NULL, ${literal(ctx.correction.id)}, ${ctx.number}, 'cell'
        FROM ${ctx.table} WHERE ${failing}`,
     );
   }

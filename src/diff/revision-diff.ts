@@ -1,12 +1,12 @@
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { Session } from '../engine/session.js';
-import { ident } from '../engine/sql.js';
 import type { ProjectTree } from '../git/tree.js';
 import { correctProject, prepareProject, type BuildProgress, type PreparedProject, type TableBuild } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
 import { diffTables } from './table-diff.js';
+import { emptyLike } from '../engine/load-table.js';
 import type { TableDiff } from './types.js';
 
 export interface RevisionDiffOptions {
@@ -100,9 +100,4 @@ async function finish(session: Session, prepared: PreparedProject | null, option
   const builds: TableBuild[] = await correctProject(session, prepared, { onProgress: options.onProgress, keepRaw: false });
   for (const b of builds) out.set(b.config.name, { table: b.cleanTable, key: b.config.key, lineage: b.lineageTable, conflicts: b.conflicts });
   return out;
-}
-
-async function emptyLike(session: Session, table: string, name: string): Promise<string> {
-  await session.run(`CREATE OR REPLACE TABLE ${ident(name)} AS SELECT * FROM ${ident(table)} LIMIT 0`);
-  return name;
 }

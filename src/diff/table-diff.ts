@@ -2,7 +2,7 @@ import { SQL_TYPE, valueTypeOf, type ValueType } from '../engine/column-types.js
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
-import { ident } from '../engine/sql.js';
+import { ident, literal } from '../engine/sql.js';
 import { textSql } from '../engine/value-text.js';
 import type { CellChange, ColumnRetype, DiffSummary, TableDiff } from './types.js';
 
@@ -142,7 +142,7 @@ function comparable(value: string, column: Compared, otherAs: ValueType): string
 
 async function changedCells(session: Session, work: string, common: ColumnInfo[], keyOrder: string, options: DiffOptions): Promise<CellChange[]> {
   const perColumn = common.map(
-    (c, i) => `SELECT "key", ${keyOrder}, ${i} AS "ci", ${sqlText(c.name)} AS "column", "o${i}" AS "old", "n${i}" AS "new"
+    (c, i) => `SELECT "key", ${keyOrder}, ${i} AS "ci", ${literal(c.name)} AS "column", "o${i}" AS "old", "n${i}" AS "new"
                FROM ${ident(work)} WHERE NOT "added" AND NOT "removed" AND "d${i}"`,
   );
   const limit = options.cellLimit !== undefined ? `LIMIT ${Math.max(0, Math.floor(options.cellLimit))}` : '';
@@ -193,6 +193,3 @@ async function likelyRenames(session: Session, oldTable: string, newTable: strin
   return renames;
 }
 
-function sqlText(value: string): string {
-  return `'${value.replaceAll("'", "''")}'`;
-}

@@ -252,6 +252,12 @@ export async function columnsOf(session: Session, table: string): Promise<Column
   return rows.map((r) => ({ name: r.column_name, type: r.data_type }));
 }
 
+/** An empty table with the columns and types of `table`: the side of a diff where a table did not exist. */
+export async function emptyLike(session: Session, table: string, name: string): Promise<string> {
+  await session.run(`CREATE OR REPLACE TABLE ${ident(name)} AS SELECT * FROM ${ident(table)} LIMIT 0`);
+  return name;
+}
+
 /** Stack several loaded deliveries into one table, matching columns by name. */
 export async function stackTables(session: Session, parts: readonly string[], target: string): Promise<void> {
   const union = parts.map((p) => `SELECT * FROM ${ident(p)}`).join(' UNION ALL BY NAME ');

@@ -1,6 +1,7 @@
 import type { Session } from '../engine/session.js';
-import { ident } from '../engine/sql.js';
+import { ident, literal } from '../engine/sql.js';
 import { diffTables } from '../diff/table-diff.js';
+import { emptyLike } from '../engine/load-table.js';
 import type { TableBuild } from '../build/build-project.js';
 import type { Finding } from './types.js';
 
@@ -30,7 +31,7 @@ export async function explainChangedCells(
   const name = head.config.name;
   const key = head.config.key;
   const t = (suffix: string) => `review_${name}_${suffix}`;
-  const baseClean = base?.cleanTable ?? (await emptyLike(session, head.cleanTable));
+  const baseClean = base?.cleanTable ?? (await emptyLike(session, head.cleanTable, `${head.cleanTable}__empty`));
   const clean = await diffTables(session, baseClean, head.cleanTable, { key, table: name, cellLimit: 0, cellTable: t('cells') });
 
   const ids = [...newCorrections];
@@ -43,7 +44,7 @@ export async function explainChangedCells(
   // A new delivery explains the cells whose raw value differs; without one, nothing can be explained so.
   let raw = { added: new Set<string>(), removed: new Set<string>(), columnsAdded: [] as string[], columnsRemoved: [] as string[] };
   if (options.rawChanged && head.rawTable) {
-    const baseRaw = base?.rawTable ?? (await emptyLike(session, head.rawTable));
+    const baseRaw = base?.rawTable ?? (await emptyLike(session, head.rawTable, `${head.rawTable}__empty`));
     const rawDiff = await diffTables(session, baseRaw, head.rawTable, { key, table: name, cellLimit: 0, cellTable: t('raw') });
     raw = { added: new Set(rawDiff.addedKeys), removed: new Set(rawDiff.removedKeys), columnsAdded: rawDiff.summary.columns.added, columnsRemoved: rawDiff.summary.columns.removed };
   } else {
@@ -58,10 +59,9 @@ export async function explainChangedCells(
     return current;
   };
   const derived = (await session.all<{ c: string }>(`SELECT DISTINCT "column" AS c FROM ${ident(head.lineageTable)} WHERE "change" = 'column-added'`)).map((r) => r.c);
-  const text = (v: string) => `'${v.replaceAll("'", "''")}'`;
-  const list = (values: string[]) => (values.length ? values.map(text).join(', ') : 'NULL');
+  const list = (values: string[]) => (values.length ? values.map(literal).join(', ') : 'NULL');
   const renamed = renames.map((r) => r.new).filter((n, i, all) => all.indexOf(n) === i);
-  const rawName = renamed.length ? `CASE c."column" ${renamed.map((n) => `WHEN ${text(n)} THEN ${text(rawNameOf(n))}`).join(' ')} ELSE c."column" END` : 'c."column"';
+  const rawName = renamed.length ? `CASE c."column" ${renamed.map((n) => `WHEN ${literal(n)} THEN ${literal(rawNameOf(n))}`).join(' ')} ELSE c."column" END` : 'c."column"';
 
   await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(t('explained'))} AS
     SELECT c."key", c."column", c."old", c."new",
@@ -112,10 +112,4 @@ export async function explainChangedCells(
   }
   for (const suffix of ['cells', 'lineage', 'raw', 'explained']) await session.run(`DROP TABLE IF EXISTS ${ident(t(suffix))}`);
   return { cellsChanged: clean.summary.cells.changed + clean.addedKeys.length + clean.removedKeys.length, byCorrection, byDelivery, findings };
-}
-
-async function emptyLike(session: Session, table: string): Promise<string> {
-  const name = `${table}__empty`;
-  await session.run(`CREATE OR REPLACE TABLE ${ident(name)} AS SELECT * FROM ${ident(table)} LIMIT 0`);
-  return name;
 }
