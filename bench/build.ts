@@ -8,16 +8,15 @@
  * in a child process (so its time includes start-up); its peak memory is the child's maximum resident
  * set size. With --runs R each side runs R times and the median is reported.
  */
-import { spawn } from 'node:child_process';
 import { createReadStream, existsSync, mkdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
 import path from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { COLUMNS, OUT_DIR, REPO_ROOT, TABLE, ensureProject } from './project.js';
+import { runMeasured, type Run } from './measure.js';
 
 const TARGET_RATIO = 3;
 const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
-const TIME = '/usr/bin/time';
 
 interface Args {
   rows: number;
@@ -56,61 +55,11 @@ async function warm(file: string): Promise<void> {
   }
 }
 
-interface BuildRun {
-  ms: number;
-  /** Peak resident set size of the build process, in bytes (null when it could not be measured). */
-  peakRss: number | null;
-  rssSource: string;
-  stdout: string;
-  stderr: string;
-}
-
-/**
- * Run `errata build` in `root` as a child process. Under /usr/bin/time -v when present (its report
- * goes to a file, so the command's own stderr stays clean); otherwise by polling VmHWM in /proc.
- */
-function runBuild(root: string): Promise<BuildRun> {
-  const useTime = existsSync(TIME);
-  const timeReport = path.join(OUT_DIR, `time-${process.pid}.txt`);
-  const command = useTime ? TIME : process.execPath;
-  const args = useTime ? ['-v', '-o', timeReport, process.execPath, CLI, 'build', '--quiet'] : [CLI, 'build', '--quiet'];
-  return new Promise((resolve, reject) => {
-    const started = performance.now();
-    const child = spawn(command, args, { cwd: root, env: { ...process.env, NO_COLOR: '1' }, stdio: ['ignore', 'pipe', 'pipe'] });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.on('data', (d) => (stdout += d));
-    child.stderr.on('data', (d) => (stderr += d));
-    let polledPeak = 0;
-    const poll = useTime
-      ? null
-      : setInterval(() => {
-          try {
-            const status = readFileSync(`/proc/${child.pid}/status`, 'utf8');
-            const kb = Number(/VmHWM:\s+(\d+) kB/.exec(status)?.[1] ?? 0);
-            polledPeak = Math.max(polledPeak, kb * 1024);
-          } catch {
-            /* gone */
-          }
-        }, 20);
-    child.on('error', reject);
-    child.on('close', (code) => {
-      const ms = performance.now() - started;
-      if (poll) clearInterval(poll);
-      let peakRss: number | null = polledPeak || null;
-      if (useTime && existsSync(timeReport)) {
-        const report = readFileSync(timeReport, 'utf8');
-        rmSync(timeReport, { force: true });
-        const kb = Number(/Maximum resident set size \(kbytes\): (\d+)/.exec(report)?.[1] ?? NaN);
-        peakRss = Number.isFinite(kb) ? kb * 1024 : null;
-      }
-      if (code !== 0) {
-        reject(new Error(`errata build exited with ${code}\n${stdout}${stderr}`));
-        return;
-      }
-      resolve({ ms, peakRss, rssSource: useTime ? '/usr/bin/time -v' : '/proc VmHWM polling', stdout, stderr });
-    });
-  });
+/** Run `errata build` in `root` as a child process, timed, with its peak memory. */
+async function runBuild(root: string): Promise<Run> {
+  const run = await runMeasured(process.execPath, [CLI, 'build', '--quiet'], { cwd: root, reportDir: OUT_DIR });
+  if (run.code !== 0) throw new Error(`errata build exited with ${run.code}\n${run.stdout}${run.stderr}`);
+  return run;
 }
 
 /** Plain DuckDB: one COPY (SELECT * FROM read_csv(...)) TO ... in a fresh in-memory instance. */
@@ -159,7 +108,7 @@ async function main(): Promise<void> {
 
   const baselineOut = path.join(OUT_DIR, `baseline-${process.pid}.csv`);
   const baselineMs: number[] = [];
-  const builds: BuildRun[] = [];
+  const builds: Run[] = [];
   try {
     for (let run = 1; run <= args.runs; run += 1) {
       log(`run ${run}/${args.runs}: baseline…`);

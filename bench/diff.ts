@@ -26,12 +26,12 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { COLUMNS, KEY, ensurePair, type DiffPair, type Planted } from './diff-data.js';
+import { runMeasured, type Run } from './measure.js';
 
 const BENCH_DIR = path.dirname(fileURLToPath(import.meta.url));
 const REPO_ROOT = path.resolve(BENCH_DIR, '..');
 const OUT_DIR = path.join(BENCH_DIR, 'out');
 const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
-const TIME = '/usr/bin/time';
 
 const TARGET_BASELINE_RATIO = 1.5;
 const TARGET_PEAK_BYTES = 2e9;
@@ -93,106 +93,8 @@ async function warm(files: string[]): Promise<void> {
   }
 }
 
-// ---------------------------------------------------------------------------------------------
-// Child processes, timed, with their peak memory
-
-interface Run {
-  ms: number;
-  code: number | null;
-  timedOut: boolean;
-  /** Maximum resident set size of the command (bytes), or null when it could not be measured. */
-  peakRss: number | null;
-  rssSource: string;
-  /** User plus system CPU seconds of the command (less disturbed by other load than wall time), or null. */
-  cpuS: number | null;
-  stdout: string;
-  stderr: string;
-}
-
-/** Process groups of the commands running now, ended if the benchmark itself is interrupted. */
-const running = new Set<number>();
-for (const signal of ['SIGINT', 'SIGTERM'] as const) {
-  process.on(signal, () => {
-    for (const pid of running) {
-      try {
-        process.kill(-pid, 'SIGKILL');
-      } catch {
-        /* already gone */
-      }
-    }
-    process.exit(130);
-  });
-}
-
-/**
- * Run a command in its own process group, under /usr/bin/time -v when present (the report goes to a
- * file, so the command's stderr stays its own), else polling VmHWM in /proc. On timeout the whole
- * group is killed.
- */
-function runMeasured(command: string, args: string[], options: { cwd: string; timeoutMs?: number }): Promise<Run> {
-  const useTime = existsSync(TIME);
-  const report = path.join(OUT_DIR, `time-diff-${process.pid}-${Date.now()}.txt`);
-  const [cmd, argv] = useTime ? [TIME, ['-v', '-o', report, command, ...args]] : [command, args];
-  return new Promise((resolve, reject) => {
-    const started = performance.now();
-    const child = spawn(cmd, argv, { cwd: options.cwd, env: { ...process.env, NO_COLOR: '1' }, stdio: ['ignore', 'pipe', 'pipe'], detached: true });
-    if (child.pid) running.add(child.pid);
-    let stdout = '';
-    let stderr = '';
-    child.stdout.on('data', (d) => {
-      if (stdout.length < 1 << 20) stdout += d;
-    });
-    child.stderr.on('data', (d) => {
-      if (stderr.length < 1 << 20) stderr += d;
-    });
-    let polledPeak = 0;
-    const poll = useTime
-      ? null
-      : setInterval(() => {
-          try {
-            const kb = Number(/VmHWM:\s+(\d+) kB/.exec(readFileSync(`/proc/${child.pid}/status`, 'utf8'))?.[1] ?? 0);
-            polledPeak = Math.max(polledPeak, kb * 1024);
-          } catch {
-            /* exited */
-          }
-        }, 20);
-    let timedOut = false;
-    const timer = options.timeoutMs
-      ? setTimeout(() => {
-          timedOut = true;
-          try {
-            process.kill(-child.pid!, 'SIGKILL');
-          } catch {
-            /* already gone */
-          }
-        }, options.timeoutMs)
-      : null;
-    child.on('error', reject);
-    child.on('close', (code) => {
-      const ms = performance.now() - started;
-      if (child.pid) running.delete(child.pid);
-      if (poll) clearInterval(poll);
-      if (timer) clearTimeout(timer);
-      let peakRss: number | null = polledPeak || null;
-      let cpuS: number | null = null;
-      if (useTime && existsSync(report)) {
-        const text = readFileSync(report, 'utf8');
-        rmSync(report, { force: true });
-        const kb = Number(/Maximum resident set size \(kbytes\): (\d+)/.exec(text)?.[1] ?? NaN);
-        peakRss = Number.isFinite(kb) && !timedOut ? kb * 1024 : null;
-        const user = Number(/User time \(seconds\): ([\d.]+)/.exec(text)?.[1] ?? NaN);
-        const system = Number(/System time \(seconds\): ([\d.]+)/.exec(text)?.[1] ?? NaN);
-        cpuS = Number.isFinite(user + system) && !timedOut ? user + system : null;
-        const exit = /Exit status: (\d+)/.exec(text);
-        if (exit && code === 0) code = Number(exit[1]);
-      }
-      resolve({ ms, code, timedOut, peakRss, rssSource: useTime ? '/usr/bin/time -v' : '/proc VmHWM polling', cpuS, stdout, stderr });
-    });
-  });
-}
-
 function errata(args: string[], cwd: string): Promise<Run> {
-  return runMeasured(process.execPath, [CLI, ...args], { cwd });
+  return runMeasured(process.execPath, [CLI, ...args], { cwd, reportDir: OUT_DIR });
 }
 
 interface Summary {
@@ -361,7 +263,7 @@ async function gitDiff(pair: DiffPair, timeoutMinutes: number, errataS: number |
   // raise it and say --text so that git compares the lines, as a reviewer would need.
   const gitArgs = ['-c', 'core.bigFileThreshold=64g', 'diff', '--no-index', '--text', '--stat', pair.oldFile, pair.newFile];
   log(`git diff --no-index --text --stat (capped at ${timeoutMinutes} min) …`);
-  const run = await runMeasured('git', gitArgs, { cwd: OUT_DIR, timeoutMs });
+  const run = await runMeasured('git', gitArgs, { cwd: OUT_DIR, reportDir: OUT_DIR, timeoutMs });
   if (!run.timedOut && run.code !== 0 && run.code !== 1) throw new Error(`git diff exited with ${run.code}: ${run.stderr}`);
   const s = seconds(run.ms);
   line('git diff --no-index --stat seconds', run.timedOut ? `more than ${(timeoutMs / 1000).toFixed(0)} (HIT THE CAP, killed)` : s.toFixed(2));

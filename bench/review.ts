@@ -15,15 +15,14 @@
  *
  * bench/review-profile.ts times the phases of both commands in one process.
  */
-import { spawn } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { availableParallelism, loadavg, totalmem } from 'node:os';
 import path from 'node:path';
 import { OUT_DIR, REPO_ROOT, ensureReviewProject } from './review-project.js';
+import { runMeasured } from './measure.js';
 
 const TARGET_RATIO = 1.5;
 const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
-const TIME = '/usr/bin/time';
 
 interface Args {
   rows: number;
@@ -62,52 +61,11 @@ interface CliRun {
 
 let rssSource = '';
 
-/**
- * Run `errata ARGS` in `root` as a child process: under /usr/bin/time -v when present (its report goes
- * to a file, so the command's own stderr stays clean), otherwise polling VmHWM in /proc.
- */
-function runCli(root: string, cliArgs: string[]): Promise<CliRun> {
-  const useTime = existsSync(TIME);
-  rssSource = useTime ? '/usr/bin/time -v' : '/proc VmHWM polling';
-  const timeReport = path.join(OUT_DIR, `time-review-${process.pid}.txt`);
-  const command = useTime ? TIME : process.execPath;
-  const args = useTime ? ['-v', '-o', timeReport, process.execPath, CLI, ...cliArgs] : [CLI, ...cliArgs];
-  return new Promise((resolve, reject) => {
-    const started = performance.now();
-    const child = spawn(command, args, { cwd: root, env: { ...process.env, NO_COLOR: '1' }, stdio: ['ignore', 'pipe', 'pipe'] });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.on('data', (d) => (stdout += d));
-    child.stderr.on('data', (d) => (stderr += d));
-    let polledPeak = 0;
-    const poll = useTime
-      ? null
-      : setInterval(() => {
-          try {
-            const status = readFileSync(`/proc/${child.pid}/status`, 'utf8');
-            polledPeak = Math.max(polledPeak, Number(/VmHWM:\s+(\d+) kB/.exec(status)?.[1] ?? 0) * 1024);
-          } catch {
-            /* gone */
-          }
-        }, 20);
-    child.on('error', reject);
-    child.on('close', (code) => {
-      const ms = performance.now() - started;
-      if (poll) clearInterval(poll);
-      let peakRss: number | null = polledPeak || null;
-      let cpuSeconds: number | null = null;
-      if (useTime && existsSync(timeReport)) {
-        const report = readFileSync(timeReport, 'utf8');
-        rmSync(timeReport, { force: true });
-        const kb = Number(/Maximum resident set size \(kbytes\): (\d+)/.exec(report)?.[1] ?? NaN);
-        peakRss = Number.isFinite(kb) ? kb * 1024 : null;
-        const user = Number(/User time \(seconds\): ([\d.]+)/.exec(report)?.[1] ?? NaN);
-        const system = Number(/System time \(seconds\): ([\d.]+)/.exec(report)?.[1] ?? NaN);
-        cpuSeconds = Number.isFinite(user + system) ? user + system : null;
-      }
-      resolve({ ms, code: code ?? -1, peakRss, cpuSeconds, stdout, stderr });
-    });
-  });
+/** Run `errata ARGS` in `root` as a child process, timed, with its peak memory and CPU time. */
+async function runCli(root: string, cliArgs: string[]): Promise<CliRun> {
+  const run = await runMeasured(process.execPath, [CLI, ...cliArgs], { cwd: root, reportDir: OUT_DIR });
+  rssSource = run.rssSource;
+  return { ms: run.ms, code: run.code ?? -1, peakRss: run.peakRss, cpuSeconds: run.cpuS, stdout: run.stdout, stderr: run.stderr };
 }
 
 interface ReviewJson {
