@@ -30,7 +30,12 @@ export type ErrorCode =
   | 'CELL_UNKNOWN'
   | 'PATH_OUTSIDE'
   | 'OUTPUT_WRITE'
-  | 'ENGINE';
+  | 'ENGINE'
+  | 'NOT_AVAILABLE'
+  | 'LOCKED'
+  | 'TIMEOUT'
+  | 'QUERY_SHEET'
+  | 'REPORT';
 
 export interface ErrorData {
   file?: string;

@@ -12,8 +12,10 @@ import { registerWhy } from './why.js';
 import { registerProfile } from './profile.js';
 import { registerCheck } from './check.js';
 import { registerCodebook } from './codebook.js';
+import { registerQueries } from './queries.js';
+import { registerReport } from './report.js';
 
 /** Registers a command on the program; `setExit` records the exit code of a run that found something. */
 export type RegisterCommand = (program: Command, setExit: (code: number) => void) => void;
 
-export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup, registerReview, registerFix, registerNote, registerProfile, registerCheck, registerCodebook];
+export const commands: RegisterCommand[] = [registerInit, registerBuild, registerVerify, registerWhy, registerLog, registerDiff, registerGitSetup, registerReview, registerFix, registerNote, registerProfile, registerCheck, registerCodebook, registerQueries, registerReport];
