@@ -23,6 +23,15 @@ export interface CheckProjectOptions {
   cache?: RawCache;
   memoryLimit?: string;
   onProgress?: (event: CheckProgress) => void;
+  /** Runs once every table is checked, with the checked tables still in the session (to look up cells). */
+  whileOpen?: (session: Session, tables: CheckedTable[]) => Promise<void>;
+}
+
+/** A checked table as it sits in the session: `relation` is its table name there. */
+export interface CheckedTable {
+  check: TableCheck;
+  config: TableConfig;
+  relation: string;
 }
 
 export interface ProjectCheck {
@@ -71,6 +80,7 @@ export async function checkProject(options: CheckProjectOptions): Promise<Projec
   }
   try {
     const tables: TableCheck[] = [];
+    const checked: CheckedTable[] = [];
     const skipped: ProjectCheck['skipped'] = [];
     for (const target of targets) {
       if (!target.codebook) {
@@ -81,9 +91,12 @@ export async function checkProject(options: CheckProjectOptions): Promise<Projec
       options.onProgress?.({ phase: 'check', table: target.config.name });
       // Loading has already refused rows without a key and keys that repeat.
       const result = await checkTable(session, { table: target.table, key: target.config.key, codebook: target.codebook, keyChecked: true });
-      tables.push({ table: target.config.name, source: options.raw ? 'raw' : 'clean', keyColumns: [...target.config.key], ...result });
+      const check: TableCheck = { table: target.config.name, source: options.raw ? 'raw' : 'clean', keyColumns: [...target.config.key], ...result };
+      tables.push(check);
+      checked.push({ check, config: target.config, relation: target.table });
     }
     if (tables.length === 0) throw noneChecked(skipped);
+    await options.whileOpen?.(session, checked);
     return { tables, skipped, conflicts };
   } finally {
     session.close();

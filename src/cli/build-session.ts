@@ -1,4 +1,6 @@
+import path from 'node:path';
 import { buildProject, type BuildProgress, type ProjectBuild } from '../build/build-project.js';
+import type { CheckProgress } from '../check/check-project.js';
 import type { ProjectTree } from '../git/tree.js';
 import type { Output } from './output.js';
 import { workDir } from './context.js';
@@ -15,4 +17,14 @@ export async function buildWithProgress(tree: ProjectTree, root: string, output:
   } finally {
     output.endProgress();
   }
+}
+
+/** The progress line of a check (and of the build it starts from). */
+export function checkProgressText(event: CheckProgress): string {
+  return event.phase === 'check' ? `checking ${event.table}…` : event.phase === 'load' ? `loading ${event.table}…` : `building ${event.table}…`;
+}
+
+/** The parse cache under .errata/cache/tables, which commands that read deliveries share. */
+export function tableCache(root: string): { dir: string; write: true } {
+  return { dir: path.join(root, '.errata', 'cache', 'tables'), write: true };
 }

@@ -1,4 +1,3 @@
-import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { checkFile } from '../../check/check-file.js';
@@ -6,6 +5,7 @@ import { checkProject } from '../../check/check-project.js';
 import type { TableCheck } from '../../check/types.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { checkFailed, checkJsonChunks, renderCheckText } from '../../render/check.js';
+import { checkProgressText, tableCache } from '../build-session.js';
 import { projectRoot, projectTree, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -51,8 +51,8 @@ export function registerCheck(program: Command, setExit: (code: number) => void)
           table,
           raw: options.raw,
           workDir: workDir(root),
-          cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
-          onProgress: (e) => output.progress(e.phase === 'check' ? `checking ${e.table}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
+          cache: tableCache(root),
+          onProgress: (e) => output.progress(checkProgressText(e)),
         });
         output.endProgress();
         for (const s of result.skipped) output.err(output.color.dim(`${s.table}: no codebook (${s.codebook}), not checked`));

@@ -4,6 +4,7 @@ import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { draftCodebook } from '../../check/draft-codebook.js';
 import { WorkingTree } from '../../git/tree.js';
+import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 
@@ -28,7 +29,7 @@ export function registerCodebook(program: Command): void {
         tree: new WorkingTree(root),
         table,
         workDir: workDir(root),
-        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        cache: tableCache(root),
       });
       output.endProgress();
       if (options.out === '-') {

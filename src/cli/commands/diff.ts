@@ -1,5 +1,4 @@
 import { writeFileSync, renameSync } from 'node:fs';
-import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { diffFiles } from '../../diff/file-diff.js';
@@ -11,6 +10,7 @@ import { renderDiffMarkdown, renderMultisetMarkdown } from '../../render/diff-ma
 import { renderDiffText, renderMultisetText } from '../../render/diff-text.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { resolveRevision } from '../../git/repo.js';
+import { tableCache } from '../build-session.js';
 import { projectRoot, projectTree, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -80,7 +80,7 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
         tolerance,
         cellLimit: limit,
         workDir: work,
-        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        cache: tableCache(root),
         onProgress: (e) => output.progress(e.phase === 'diff' ? `diffing ${e.table}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
       });
       output.endProgress();

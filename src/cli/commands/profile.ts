@@ -6,6 +6,7 @@ import { profileFile } from '../../profile/profile-file.js';
 import { profileProject, type ProfileProgress } from '../../profile/profile-project.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { renderComparisonJson, renderComparisonText, renderProfileJson, renderProfileText } from '../../render/profile.js';
+import { tableCache } from '../build-session.js';
 import { projectRoot, projectTree, workDir } from '../context.js';
 import { createOutput, type Output } from '../output.js';
 import { formatOption } from '../options.js';
@@ -50,7 +51,7 @@ export function registerProfile(program: Command): void {
         raw: Boolean(options.raw || options.compare),
         clean: !options.raw,
         workDir: workDir(root),
-        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        cache: tableCache(root),
         onProgress: (event) => output.progress(progressText(event)),
       }).finally(() => output.endProgress());
       reportConflicts(result.conflicts, output);

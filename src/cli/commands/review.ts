@@ -1,9 +1,9 @@
-import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { mainBranch, mergeBase, resolveRevision } from '../../git/repo.js';
 import { reviewRange } from '../../review/review-range.js';
 import { renderReview, reviewPassed, type ReviewFormat } from '../../render/review.js';
+import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -23,7 +23,7 @@ export function registerReview(program: Command, setExit: (code: number) => void
         base,
         head,
         workDir: workDir(root),
-        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        cache: tableCache(root),
         onProgress: (e) => output.progress(e.phase === 'review' ? `reviewing ${e.step}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
       });
       output.endProgress();
