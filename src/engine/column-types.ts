@@ -151,10 +151,12 @@ export async function decideColumnTypes(
 
 async function misfitExamples(session: Session, table: string, key: readonly string[], column: string, misfit: string) {
   const v = ident(column);
+  // A file loaded without a key names its rows by position: data row 1 is the first row after the header.
+  const [name, order] = key.length ? [keyExpression(key), key.map(ident).join(', ')] : ['CAST(rowid + 1 AS VARCHAR)', 'rowid'];
   return session.all<{ key: string; value: string }>(`
-    SELECT ${keyExpression(key)} AS key, ${v} AS value FROM ${ident(table)}
+    SELECT ${name} AS key, ${v} AS value FROM ${ident(table)}
     WHERE ${v} IS NOT NULL AND ${misfit}
-    ORDER BY ${key.map(ident).join(', ')} LIMIT 5`);
+    ORDER BY ${order} LIMIT 5`);
 }
 
 /** Cast the columns whose decided type is not text, each in place (the rest of the table is untouched). */

@@ -147,6 +147,21 @@ describe('errata profile', () => {
     expect(text.stdout).toContain('2026-01-delivery.csv · file · 7 rows · 4 variables · key id');
   });
 
+  it('--files without --key names the rows of a number-as-text column by data row number', async () => {
+    const file = path.join(root, 'counts.csv');
+    writeFileSync(file, 'visits,site\n3,a\nn/a,b\n4,c\nn/a,d\n');
+    try {
+      const result = await errata(root, ['profile', '--files', file, '--format', 'json']);
+      expect(result.stderr).toBe('');
+      expect(result.code).toBe(0);
+      const visits = JSON.parse(result.stdout).columns.find((c: { name: string }) => c.name === 'visits');
+      // By hand: "n/a" stands in data rows 2 and 4, counted from the first row after the header.
+      expect(visits.flags[0]).toMatchObject({ kind: 'number-as-text', count: 2, keys: ['2', '4'] });
+    } finally {
+      rmSync(file);
+    }
+  });
+
   it('refuses options that do not go together, with exit code 2', async () => {
     for (const args of [['--raw', '--compare'], ['--files', 'x.csv', '--raw'], ['--key', 'id']]) {
       const result = await errata(root, ['profile', ...args]);
