@@ -1,0 +1,125 @@
+/**
+ * Discovery benchmark: `errata profile --files` and `errata check --files` on a one-million-row,
+ * 20-column delivery (the build benchmark's invented project), each against DuckDB alone reading the
+ * same file (one query: the row count and a hash of every column).
+ *
+ *   npx tsc -p . && npx tsx bench/profile.ts [--rows N] [--seed S] [--runs R]
+ *
+ * Both commands run as the real command line in child processes, so their times include start-up;
+ * peak memory is the child's maximum resident set size. With --runs R each runs R times; medians.
+ */
+import { createReadStream, existsSync, mkdirSync } from 'node:fs';
+import { availableParallelism, loadavg } from 'node:os';
+import path from 'node:path';
+import { performance } from 'node:perf_hooks';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { runMeasured, type Run } from './measure.js';
+import { COLUMNS, OUT_DIR, REPO_ROOT, TABLE, ensureProject } from './project.js';
+
+const TARGET_RATIO = 3;
+const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
+
+interface Args {
+  rows: number;
+  seed: number;
+  runs: number;
+}
+
+function parseArgs(argv: string[]): Args {
+  const args: Args = { rows: 1_000_000, seed: 20260115, runs: 1 };
+  for (let i = 0; i < argv.length; i += 1) {
+    const [flag, inline] = argv[i].split('=', 2);
+    const value = () => Number(inline ?? argv[++i]);
+    if (flag === '--rows') args.rows = value();
+    else if (flag === '--seed') args.seed = value();
+    else if (flag === '--runs') args.runs = value();
+    else throw new Error(`unknown option ${argv[i]} (known: --rows N, --seed S, --runs R)`);
+  }
+  for (const [name, v] of Object.entries(args)) {
+    if (!Number.isInteger(v) || v < 1) throw new Error(`--${name} must be a positive whole number`);
+  }
+  return args;
+}
+
+const log = (line: string) => process.stderr.write(`${line}\n`);
+const median = (values: number[]) => {
+  const sorted = [...values].sort((a, b) => a - b);
+  const mid = Math.floor(sorted.length / 2);
+  return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+};
+const quote = (s: string) => `'${s.replaceAll("'", "''")}'`;
+
+/** DuckDB alone: read every column of every row once. */
+async function baseline(file: string): Promise<number> {
+  const started = performance.now();
+  const instance = await DuckDBInstance.create(':memory:');
+  const connection = await instance.connect();
+  try {
+    const hashes = COLUMNS.map((c, i) => `bit_xor(hash("${c}")) AS h${i}`).join(', ');
+    await connection.runAndReadAll(`SELECT count(*) AS n, ${hashes} FROM read_csv(${quote(file)})`);
+  } finally {
+    connection.closeSync();
+    instance.closeSync();
+  }
+  return performance.now() - started;
+}
+
+async function runCli(args: string[], cwd: string): Promise<Run> {
+  const run = await runMeasured(process.execPath, [CLI, ...args], { cwd, reportDir: OUT_DIR });
+  // check exits 1 when it finds errors, which the planted problems are.
+  if (run.code !== 0 && run.code !== 1) throw new Error(`errata ${args.join(' ')} exited with ${run.code}\n${run.stderr}`);
+  return run;
+}
+
+async function main(): Promise<void> {
+  const args = parseArgs(process.argv.slice(2));
+  if (!existsSync(path.join(REPO_ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: compile first with `npx tsc -p .`');
+  mkdirSync(OUT_DIR, { recursive: true });
+  const project = await ensureProject({ rows: args.rows, seed: args.seed, log });
+  const file = project.rawFile;
+  const codebook = path.join(project.root, 'codebook', `${TABLE}.yaml`);
+  for await (const _ of createReadStream(file, { highWaterMark: 1 << 22 })) {
+    /* warm the page cache so every side reads from memory */
+  }
+  const loadBefore = loadavg()[0];
+  const baselines: number[] = [];
+  const profiles: Run[] = [];
+  const checks: Run[] = [];
+  for (let run = 1; run <= args.runs; run += 1) {
+    log(`run ${run}/${args.runs}: DuckDB alone…`);
+    baselines.push(await baseline(file));
+    log('  errata profile --files…');
+    profiles.push(await runCli(['profile', '--files', file, '--key', 'participant_id'], project.root));
+    log('  errata check --files…');
+    checks.push(await runCli(['check', '--files', file, '--codebook', codebook], project.root));
+  }
+  // The first line of each text report says what was found: rows and variables, errors and warnings.
+  const summary = (runs: Run[]) => runs[runs.length - 1].stdout.split('\n')[0].trim();
+  const baseS = median(baselines) / 1000;
+  const profileS = median(profiles.map((r) => r.ms)) / 1000;
+  const checkS = median(checks.map((r) => r.ms)) / 1000;
+  const peak = (runs: Run[]) => {
+    const peaks = runs.map((r) => r.peakRss).filter((p): p is number => p !== null);
+    return peaks.length ? `${(Math.max(...peaks) / 2 ** 20).toFixed(0)} MiB` : 'not measured';
+  };
+  const of = args.runs > 1 ? ` (median of ${args.runs})` : '';
+  const line = (label: string, value: string) => console.log(`${label.padEnd(30)} ${value}`);
+  line('rows × columns', `${args.rows.toLocaleString('en-US')} × ${COLUMNS.length} (${(project.rawBytes / 2 ** 20).toFixed(0)} MiB CSV)`);
+  line('DuckDB alone seconds', `${baseS.toFixed(2)}${of}`);
+  line('profile seconds', `${profileS.toFixed(2)}${of}, peak ${peak(profiles)}: ${summary(profiles)}`);
+  line('profile rows per second', Math.round(args.rows / profileS).toLocaleString('en-US'));
+  line('ratio profile / DuckDB alone', (profileS / baseS).toFixed(2));
+  line('check seconds', `${checkS.toFixed(2)}${of}, peak ${peak(checks)}: ${summary(checks)}`);
+  line('check rows per second', Math.round(args.rows / checkS).toLocaleString('en-US'));
+  line('ratio check / DuckDB alone', (checkS / baseS).toFixed(2));
+  line('machine', `${availableParallelism()} CPUs, 1-minute load average ${loadBefore.toFixed(2)} before, ${loadavg()[0].toFixed(2)} after (other work slows both sides)`);
+  for (const [name, seconds] of [['profile', profileS], ['check', checkS]] as const) {
+    const ratio = seconds / baseS;
+    console.log(`${ratio <= TARGET_RATIO ? 'TARGET MET' : 'TARGET MISSED'}: ${name} is ${ratio.toFixed(2)}x DuckDB alone (target at most ${TARGET_RATIO}x)`);
+  }
+}
+
+main().catch((error: unknown) => {
+  console.error(error instanceof Error ? error.message : error);
+  process.exitCode = 1;
+});
