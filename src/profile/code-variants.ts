@@ -22,7 +22,7 @@ export async function codeVariantFlags(ctx: ColumnContext, distinct: number): Pr
   const rows = await ctx.session.all<{ folded: string; value: string; count: bigint }>(
     `WITH spellings AS (
        SELECT value, ${foldedSql('value')} AS folded, count
-       FROM (SELECT ${ctx.v} AS value, count(*) AS count FROM ${ident(ctx.table)} WHERE ${ctx.v} IS NOT NULL GROUP BY ${ctx.v})),
+       FROM (SELECT ${ctx.v} AS value, ${ctx.count} AS count FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL)),
      groups AS (
        SELECT folded, sum(count) AS rows
        FROM spellings

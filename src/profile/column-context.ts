@@ -22,6 +22,13 @@ export interface ColumnContext {
   keySql: string;
   /** SQL ORDER BY list putting rows in key order. */
   keyOrder: string;
+  /**
+   * A table of the column's distinct values (under the column's own name, null included) with how many
+   * rows hold each: the column grouped once, which the analyses read instead of the rows.
+   */
+  counts: string;
+  /** The row-count column of `counts`, quoted. */
+  count: string;
   field: CodebookField | undefined;
   /** Texts the codebook declares missing for this column (the empty text left out: it is loaded as missing). */
   missingCodes: string[];
@@ -44,19 +51,20 @@ export const LISTED_VALUES = 10;
  * million rows of a five-code column then runs five times.
  */
 
-/** The column's distinct values with their counts, as a subquery with columns ctx.v and `countAlias(ctx)`. */
-function distinctValues(ctx: ColumnContext): string {
-  return `(SELECT ${ctx.v}, count(*) AS ${countAlias(ctx)} FROM ${ident(ctx.table)} GROUP BY ${ctx.v})`;
+/** A name for the count column of a column's distinct values that cannot be the column's own. */
+export function countColumn(column: string): string {
+  return column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding';
 }
 
-/** A name for the count column that cannot be the column's own. */
-function countAlias(ctx: ColumnContext): string {
-  return ident(ctx.column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding');
+/** Group a column once: its distinct values (null among them) with the rows holding each. */
+export async function createCounts(session: Session, table: string, column: string, counts: string): Promise<void> {
+  const v = ident(column);
+  await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(counts)} AS SELECT ${v}, count(*) AS ${ident(countColumn(column))} FROM ${ident(table)} GROUP BY ${v}`);
 }
 
 /** A row condition equivalent to a value condition, with the value condition evaluated per distinct value. */
 export function rowsWhere(ctx: ColumnContext, valueCondition: string): string {
-  return `${ctx.v} IN (SELECT ${ctx.v} FROM ${distinctValues(ctx)} WHERE ${valueCondition})`;
+  return `${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${valueCondition})`;
 }
 
 /** Keys of the first rows (in key order) whose value meets `valueCondition`. */
@@ -77,8 +85,8 @@ export async function valuesWhere(ctx: ColumnContext, valueCondition: string, pa
   const rows = await ctx.session.all<{ value: string; count: bigint; total: bigint; kinds: bigint }>(
     `SELECT value, count, sum(count) OVER () AS total, count(*) OVER () AS kinds
      FROM (
-       SELECT ${ctx.text} AS value, ${countAlias(ctx)} AS count
-       FROM ${distinctValues(ctx)}
+       SELECT ${ctx.text} AS value, ${ctx.count} AS count
+       FROM ${ident(ctx.counts)}
        WHERE ${valueCondition})
      ORDER BY count DESC, value
      LIMIT ${LISTED_VALUES}`,
@@ -92,15 +100,15 @@ export async function valuesWhere(ctx: ColumnContext, valueCondition: string, pa
 }
 
 /** Count a text column's numbers and whole numbers, each check once per distinct value. */
-export async function textShape(session: Session, table: string, column: string): Promise<TextShape> {
+export async function textShape(session: Session, counts: string, column: string): Promise<TextShape> {
   const v = ident(column);
-  const k = ident(column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding');
+  const k = ident(countColumn(column));
   const row = await session.one<{ n: bigint | null; numbers: bigint | null; integers: bigint | null }>(
     `SELECT
        sum(${k}) AS n,
        sum(${k}) FILTER (WHERE ${fitsTypeSql(v, 'number')}) AS numbers,
        sum(${k}) FILTER (WHERE ${fitsTypeSql(v, 'integer')}) AS integers
-     FROM (SELECT ${v}, count(*) AS ${k} FROM ${ident(table)} WHERE ${v} IS NOT NULL GROUP BY ${v})`,
+     FROM ${ident(counts)} WHERE ${v} IS NOT NULL`,
   );
   return { n: Number(row.n ?? 0), numbers: Number(row.numbers ?? 0), integers: Number(row.integers ?? 0) };
 }

@@ -31,20 +31,18 @@ export interface ValueCounts {
 export async function valueCounts(ctx: ColumnContext, all: boolean): Promise<ValueCounts> {
   if (!all) {
     const rows = await ctx.session.all<{ value: string; count: bigint }>(
-      `SELECT ${ctx.text} AS value, count(*) AS count
-       FROM ${ident(ctx.table)}
+      `SELECT ${ctx.text} AS value, ${ctx.count} AS count
+       FROM ${ident(ctx.counts)}
        WHERE ${ctx.v} IS NOT NULL
-       GROUP BY ${ctx.v}
        ORDER BY count DESC, ${ctx.v}
        LIMIT ${TOP_VALUES}`,
     );
     return { top: rows.map((r) => ({ value: r.value, count: Number(r.count) })), all: null };
   }
   const rows = await ctx.session.all<{ value: string; count: bigint }>(
-    `SELECT ${ctx.text} AS value, count(*) AS count
-     FROM ${ident(ctx.table)}
+    `SELECT ${ctx.text} AS value, ${ctx.count} AS count
+     FROM ${ident(ctx.counts)}
      WHERE ${ctx.v} IS NOT NULL
-     GROUP BY ${ctx.v}
      ORDER BY ${ctx.v}`,
   );
   const inOrder = rows.map((r) => ({ value: r.value, count: Number(r.count) }));

@@ -45,24 +45,27 @@ export function binLayout(min: number, max: number, n: number, integer: boolean)
  * ⌊(v − start) / width⌋ and then moved by one where floating-point division put a value on the wrong
  * side of an edge, so membership follows the edges exactly as reported.
  */
-export async function histogram(session: Session, table: string, column: string, layout: BinLayout): Promise<Histogram> {
+export async function histogram(session: Session, table: string, column: string, layout: BinLayout, weight?: string): Promise<Histogram> {
   const count = layout.edges.length - 1;
   const v = `CAST(${ident(column)} AS DOUBLE)`;
+  // With a weight, `table` holds distinct values and the weight says how many rows hold each.
+  const rowsIn = weight ? `sum(${ident(weight)})` : 'count(*)';
+  const w = weight ? ident(weight) : '1';
   let rows: Array<{ bin: number; count: bigint }>;
   if (layout.width === 0) {
-    rows = await session.all(`SELECT 0 AS bin, count(*) AS count FROM ${ident(table)} WHERE ${ident(column)} IS NOT NULL`);
+    rows = await session.all(`SELECT 0 AS bin, ${rowsIn} AS count FROM ${ident(table)} WHERE ${ident(column)} IS NOT NULL`);
   } else {
     rows = await session.all(
-      `SELECT bin, count(*) AS count
+      `SELECT bin, sum(w) AS count
        FROM (
          SELECT CASE
              WHEN v < $1 + guess * $2 THEN guess - 1
              WHEN guess < $3 - 1 AND v >= $1 + (guess + 1) * $2 THEN guess + 1
              ELSE guess
-           END AS bin
+           END AS bin, w
          FROM (
-           SELECT v, least($3 - 1, greatest(0, floor((v - $1) / $2))) AS guess
-           FROM (SELECT ${v} AS v FROM ${ident(table)} WHERE ${ident(column)} IS NOT NULL)))
+           SELECT v, w, least($3 - 1, greatest(0, floor((v - $1) / $2))) AS guess
+           FROM (SELECT ${v} AS v, ${w} AS w FROM ${ident(table)} WHERE ${ident(column)} IS NOT NULL)))
        GROUP BY bin`,
       [layout.start, layout.width, count],
     );

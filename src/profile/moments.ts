@@ -40,26 +40,28 @@ const MAX_SCALE = 15;
  * @example
  *   await columnMoments(session, 'clean_visits', 'height_cm', 'DOUBLE') // { n: 2391, mean: 168.4, sd: 9.7, exact: true }
  */
-export async function columnMoments(session: Session, table: string, column: string, sqlType: string): Promise<Moments> {
+export async function columnMoments(session: Session, table: string, column: string, sqlType: string, weight?: string): Promise<Moments> {
   const v = ident(column);
+  // With a weight, `table` holds distinct values and the weight says how many rows hold each.
+  const w = weight ? ident(weight) : '1';
   const integer = valueTypeOf(sqlType) === 'integer';
   const scale = integer
     ? await session.one<{ n: bigint; lo: number | bigint | null; hi: number | bigint | null; s: number | null; awkward: boolean | null }>(`
-        SELECT count(${v}) AS n, min(${v}) AS lo, max(${v}) AS hi, 0 AS s, false AS awkward
+        SELECT COALESCE(sum(${w}) FILTER (WHERE ${v} IS NOT NULL), 0) AS n, min(${v}) AS lo, max(${v}) AS hi, 0 AS s, false AS awkward
         FROM ${ident(table)}`)
     : await session.one<{ n: bigint; lo: number | bigint | null; hi: number | bigint | null; s: number | null; awkward: boolean | null }>(`
         SELECT
-          count(x) AS n,
+          COALESCE(sum(w) FILTER (WHERE x IS NOT NULL), 0) AS n,
           min(x) AS lo,
           max(x) AS hi,
           max(CASE WHEN x = trunc(x) THEN 0 ELSE length(split_part(CAST(x AS VARCHAR), '.', 2)) END) AS s,
           bool_or(CASE WHEN isfinite(x) AND x <> trunc(x) THEN regexp_matches(CAST(x AS VARCHAR), '[eE]') ELSE NOT isfinite(x) END) AS awkward
-        FROM (SELECT CAST(${v} AS DOUBLE) AS x FROM ${ident(table)})`);
+        FROM (SELECT CAST(${v} AS DOUBLE) AS x, ${w} AS w FROM ${ident(table)})`);
   const n = Number(scale.n);
   if (n === 0 || scale.lo === null || scale.hi === null) return { n, mean: null, sd: null, exact: true };
-  const exact = integer ? await integerSums(session, table, v, scale.lo, scale.hi, n) : await decimalSums(session, table, v, Number(scale.lo), Number(scale.hi), Number(scale.s ?? 0), Boolean(scale.awkward), n);
+  const exact = integer ? await integerSums(session, table, v, w, scale.lo, scale.hi, n) : await decimalSums(session, table, v, w, Number(scale.lo), Number(scale.hi), Number(scale.s ?? 0), Boolean(scale.awkward), n);
   if (exact) return { n, ...fromExactSums(exact, n), exact: true };
-  return { n, ...(await floatingMoments(session, table, v, n)), exact: false };
+  return { n, ...(await floatingMoments(session, table, v, w, n)), exact: false };
 }
 
 interface ExactSums {
@@ -71,20 +73,20 @@ interface ExactSums {
   sumSquares: bigint;
 }
 
-async function integerSums(session: Session, table: string, v: string, lo: number | bigint, hi: number | bigint, n: number): Promise<ExactSums | null> {
+async function integerSums(session: Session, table: string, v: string, w: string, lo: number | bigint, hi: number | bigint, n: number): Promise<ExactSums | null> {
   const low = BigInt(lo);
   const high = BigInt(hi);
   const centre = (low + high) / 2n;
   if (!fitsHugeint(centre - low > high - centre ? centre - low : high - centre, n)) return null;
   const sums = await session.one<{ s1: bigint; s2: bigint }>(
-    `SELECT sum(d) AS s1, sum(d * d) AS s2
-     FROM (SELECT CAST(${v} AS HUGEINT) - CAST($1 AS HUGEINT) AS d FROM ${ident(table)} WHERE ${v} IS NOT NULL)`,
+    `SELECT sum(d * w) AS s1, sum(d * d * w) AS s2
+     FROM (SELECT CAST(${v} AS HUGEINT) - CAST($1 AS HUGEINT) AS d, CAST(${w} AS HUGEINT) AS w FROM ${ident(table)} WHERE ${v} IS NOT NULL)`,
     [centre.toString()],
   );
   return { centre, unit: 1, sum: BigInt(sums.s1), sumSquares: BigInt(sums.s2) };
 }
 
-async function decimalSums(session: Session, table: string, v: string, lo: number, hi: number, s: number, awkward: boolean, n: number): Promise<ExactSums | null> {
+async function decimalSums(session: Session, table: string, v: string, w: string, lo: number, hi: number, s: number, awkward: boolean, n: number): Promise<ExactSums | null> {
   if (awkward || s > MAX_SCALE) return null;
   const unit = 10 ** s;
   if (Math.max(Math.abs(lo), Math.abs(hi)) * unit >= EXACT_MAGNITUDE) return null;
@@ -93,9 +95,9 @@ async function decimalSums(session: Session, table: string, v: string, lo: numbe
   const centre = (low + high) / 2n;
   if (!fitsHugeint(centre - low > high - centre ? centre - low : high - centre, n)) return null;
   const sums = await session.one<{ s1: bigint; s2: bigint }>(
-    `SELECT sum(d) AS s1, sum(d * d) AS s2
+    `SELECT sum(d * w) AS s1, sum(d * d * w) AS s2
      FROM (
-       SELECT CAST(round(CAST(${v} AS DOUBLE) * $1) AS HUGEINT) - CAST($2 AS HUGEINT) AS d
+       SELECT CAST(round(CAST(${v} AS DOUBLE) * $1) AS HUGEINT) - CAST($2 AS HUGEINT) AS d, CAST(${w} AS HUGEINT) AS w
        FROM ${ident(table)}
        WHERE ${v} IS NOT NULL)`,
     [unit, centre.toString()],
@@ -117,13 +119,13 @@ function fromExactSums(sums: ExactSums, n: number): { mean: number; sd: number |
   return { mean, sd: Math.sqrt(variance) };
 }
 
-async function floatingMoments(session: Session, table: string, v: string, n: number): Promise<{ mean: number; sd: number | null }> {
+async function floatingMoments(session: Session, table: string, v: string, w: string, n: number): Promise<{ mean: number; sd: number | null }> {
   const x = `CAST(${v} AS DOUBLE)`;
-  const { total } = await session.one<{ total: number }>(`SELECT fsum(${x}) AS total FROM ${ident(table)}`);
+  const { total } = await session.one<{ total: number }>(`SELECT fsum(${x} * ${w}) AS total FROM ${ident(table)}`);
   const mean = total / n;
   if (n < 2) return { mean, sd: null };
   const { squares, deviations } = await session.one<{ squares: number; deviations: number }>(
-    `SELECT fsum((${x} - $1) * (${x} - $1)) AS squares, fsum(${x} - $1) AS deviations FROM ${ident(table)} WHERE ${v} IS NOT NULL`,
+    `SELECT fsum((${x} - $1) * (${x} - $1) * ${w}) AS squares, fsum((${x} - $1) * ${w}) AS deviations FROM ${ident(table)} WHERE ${v} IS NOT NULL`,
     [mean],
   );
   const variance = (squares - (deviations * deviations) / n) / (n - 1);

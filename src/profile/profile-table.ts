@@ -1,13 +1,13 @@
 import { valueTypeOf } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
-import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
+import { columnsOf } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import { textSql } from '../engine/value-text.js';
 import { fieldOf, type Codebook } from '../project/codebook.js';
 import { codeVariantFlags } from './code-variants.js';
 import { codebookFlags } from './codebook-limits.js';
-import { EXAMPLE_KEYS, textShape, type ColumnContext } from './column-context.js';
+import { EXAMPLE_KEYS, countColumn, createCounts, textShape, type ColumnContext } from './column-context.js';
 import { frequencyTable, isCoded, valueCounts } from './frequencies.js';
 import { binLayout, histogram } from './histogram.js';
 import { columnMoments } from './moments.js';
@@ -26,15 +26,18 @@ export interface ProfileTableOptions {
   codebook: Codebook | null;
 }
 
-/** Counts and order statistics of every column, gathered in one scan of the table. */
+/** Counts and order statistics of one column, read off its distinct values and their counts. */
 interface Basics {
-  rows: number;
-  n: number[];
-  distinct: number[];
-  min: Array<number | null>;
-  max: Array<number | null>;
-  quartiles: Array<number[] | null>;
+  n: number;
+  distinct: number;
+  min: number | null;
+  max: number | null;
+  /** Quartiles 1, 2 and 3 (type 7), for numeric columns. */
+  quartiles: number[] | null;
 }
+
+/** The temporary table each column is grouped into, in turn. */
+const COUNTS = '__errata_profile_counts';
 
 /**
  * Profile every column of a table held in `session`: type, n, missing, distinct, most frequent values;
@@ -51,10 +54,11 @@ export async function profileTable(session: Session, table: string, options: Pro
   const keyColumns = options.key.length ? [...options.key] : options.rowColumn ? [options.rowColumn] : [];
   if (keyColumns.length === 0) throw new Error('profileTable needs a key or a row-number column');
   const columns = (await columnsOf(session, table)).filter((c) => c.name !== options.rowColumn);
-  const basics = await gatherBasics(session, table, columns);
+  const rows = Number((await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(table)}`)).n);
   const profiles: ColumnProfile[] = [];
-  for (const [i, column] of columns.entries()) {
+  for (const column of columns) {
     const field = fieldOf(options.codebook, column.name);
+    await createCounts(session, table, column.name, COUNTS);
     const ctx: ColumnContext = {
       session,
       table,
@@ -63,29 +67,28 @@ export async function profileTable(session: Session, table: string, options: Pro
       type: valueTypeOf(column.type),
       keySql: keyExpression(keyColumns),
       keyOrder: keyColumns.map(ident).join(', '),
+      counts: COUNTS,
+      count: ident(countColumn(column.name)),
       field,
       missingCodes: (field?.missingValues ?? options.codebook?.missingValues ?? []).filter((code) => code !== ''),
       v: ident(column.name),
       text: textSql(ident(column.name), column.type),
-      shape: column.type === 'VARCHAR' ? await textShape(session, table, column.name) : null,
+      shape: column.type === 'VARCHAR' ? await textShape(session, COUNTS, column.name) : null,
     };
-    profiles.push(await profileColumn(ctx, basics, i, options.key.includes(column.name)));
+    profiles.push(await profileColumn(ctx, rows, await gatherBasics(ctx), options.key.includes(column.name)));
   }
-  return { table: options.name, source: options.source, rows: basics.rows, key: [...options.key], columns: profiles };
+  await session.run(`DROP TABLE IF EXISTS ${ident(COUNTS)}`);
+  return { table: options.name, source: options.source, rows, key: [...options.key], columns: profiles };
 }
 
-async function profileColumn(ctx: ColumnContext, basics: Basics, i: number, isKey: boolean): Promise<ColumnProfile> {
-  const n = basics.n[i];
-  const distinct = basics.distinct[i];
-  const missing = basics.rows - n;
+async function profileColumn(ctx: ColumnContext, rows: number, basics: Basics, isKey: boolean): Promise<ColumnProfile> {
+  const { n, distinct, min, max, quartiles } = basics;
+  const missing = rows - n;
   const numeric = ctx.type === 'integer' || ctx.type === 'number';
   const coded = isCoded(ctx, n, distinct, isKey);
   const counts = await valueCounts(ctx, coded);
-  const min = basics.min[i];
-  const max = basics.max[i];
-  const quartiles = basics.quartiles[i];
-  const moments = numeric && n > 0 ? await columnMoments(ctx.session, ctx.table, ctx.column, ctx.sqlType) : null;
-  const bins = numeric && !isKey && n > 0 && min !== null && max !== null ? await histogram(ctx.session, ctx.table, ctx.column, binLayout(min, max, n, ctx.type === 'integer')) : null;
+  const moments = numeric && n > 0 ? await columnMoments(ctx.session, ctx.counts, ctx.column, ctx.sqlType, countColumn(ctx.column)) : null;
+  const bins = numeric && !isKey && n > 0 && min !== null && max !== null ? await histogram(ctx.session, ctx.counts, ctx.column, binLayout(min, max, n, ctx.type === 'integer'), countColumn(ctx.column)) : null;
   const flags = await columnFlags(ctx, distinct, isKey);
   return {
     name: ctx.column,
@@ -119,35 +122,47 @@ async function columnFlags(ctx: ColumnContext, distinct: number, isKey: boolean)
   ];
 }
 
-async function gatherBasics(session: Session, table: string, columns: readonly ColumnInfo[]): Promise<Basics> {
-  const parts = ['count(*) AS "rows"'];
-  for (const [i, column] of columns.entries()) {
-    const v = ident(column.name);
-    parts.push(`count(${v}) AS "n${i}"`, `count(DISTINCT ${v}) AS "d${i}"`);
-    const type = valueTypeOf(column.type);
-    if (type === 'integer' || type === 'number') {
-      parts.push(`min(${v}) AS "lo${i}"`, `max(${v}) AS "hi${i}"`, `quantile_cont(${v}, [0.25, 0.5, 0.75]) AS "q${i}"`);
-    }
+/**
+ * n, distinct, and for numeric columns min, max and the quartiles, from the column's counts. The
+ * quartiles are Hyndman–Fan type 7 read off the cumulative counts: with N values in order,
+ * q_p = x₍r₎ + (h − r)(x₍r+1₎ − x₍r₎), h = (N − 1)·p, r = ⌊h⌋, x₍i₎ the value of 0-based rank i; the
+ * value of rank i is the smallest whose cumulative count exceeds i.
+ */
+async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
+  const numeric = ctx.type === 'integer' || ctx.type === 'number';
+  const kept = `(SELECT ${ctx.v} AS x, ${ctx.count} AS k FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL)`;
+  if (!numeric) {
+    const row = await ctx.session.one<{ n: bigint | null; d: bigint }>(`SELECT sum(k) AS n, count(*) AS d FROM ${kept}`);
+    return { n: Number(row.n ?? 0), distinct: Number(row.d), min: null, max: null, quartiles: null };
   }
-  const row = await session.one<Record<string, unknown>>(`SELECT ${parts.join(',\n  ')} FROM ${ident(table)}`);
-  const number = (value: unknown) => (value === null || value === undefined ? null : Number(value));
-  return {
-    rows: Number(row.rows),
-    n: columns.map((_, i) => Number(row[`n${i}`])),
-    distinct: columns.map((_, i) => Number(row[`d${i}`])),
-    min: columns.map((_, i) => number(row[`lo${i}`])),
-    max: columns.map((_, i) => number(row[`hi${i}`])),
-    quartiles: columns.map((_, i) => (Array.isArray(row[`q${i}`]) ? (row[`q${i}`] as unknown[]).map(Number) : null)),
+  const rank = (p: number, next: boolean) =>
+    `min(x) FILTER (WHERE upto > ${next ? `least(total - 1, floor((total - 1) * ${p}) + 1)` : `floor((total - 1) * ${p})`})`;
+  const row = await ctx.session.one<Record<string, number | bigint | null>>(
+    `SELECT min(total) AS n, count(*) AS d, min(x) AS lo, max(x) AS hi,
+       ${[0.25, 0.5, 0.75].map((p, i) => `${rank(p, false)} AS a${i}, ${rank(p, true)} AS b${i}`).join(', ')}
+     FROM (SELECT x, sum(k) OVER (ORDER BY x) AS upto, sum(k) OVER () AS total FROM ${kept})`,
+  );
+  const n = Number(row.n ?? 0);
+  if (n === 0) return { n, distinct: 0, min: null, max: null, quartiles: null };
+  const quartile = (p: number, i: number) => {
+    const below = Number(row[`a${i}`]);
+    const above = Number(row[`b${i}`]);
+    const h = (n - 1) * p;
+    return below + (h - Math.floor(h)) * (above - below);
   };
+  return { n, distinct: Number(row.d), min: Number(row.lo), max: Number(row.hi), quartiles: [0.25, 0.5, 0.75].map(quartile) };
 }
 
-/** The lowest and highest values with the keys of their rows; ties in key order. */
+/**
+ * The lowest and highest values with the keys of their rows; ties in key order. The few values at each
+ * end come from the counts, so the rows are only filtered for them, not sorted.
+ */
 async function extremes(ctx: ColumnContext): Promise<Extremes> {
   const end = (direction: 'ASC' | 'DESC') =>
     ctx.session.all<{ key: string; value: string }>(
       `SELECT ${ctx.keySql} AS key, ${ctx.text} AS value
        FROM ${ident(ctx.table)}
-       WHERE ${ctx.v} IS NOT NULL
+       WHERE ${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})
        ORDER BY ${ctx.v} ${direction}, ${ctx.keyOrder}
        LIMIT ${EXAMPLE_KEYS}`,
     );

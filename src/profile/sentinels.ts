@@ -59,7 +59,7 @@ export async function sentinelFlags(ctx: ColumnContext): Promise<Flag[]> {
   // Per distinct value, so text columns convert each spelling once.
   const present = await ctx.session.all<{ value: number; count: bigint }>(
     `SELECT x AS value, sum(k) AS count
-     FROM (SELECT ${x} AS x, count(*) AS k FROM ${ident(ctx.table)} GROUP BY ${ctx.v})
+     FROM (SELECT ${x} AS x, ${ctx.count} AS k FROM ${ident(ctx.counts)})
      WHERE x IN (${SENTINEL_CANDIDATES.join(', ')})
      GROUP BY x
      ORDER BY x`,
@@ -131,7 +131,7 @@ async function restStats(ctx: ColumnContext, x: string, excluded: readonly numbe
   const row = await ctx.session.one<{ n: bigint | null; lo: number; hi: number; kinds: bigint; whole: boolean; a1: number; b1: number; a3: number; b3: number }>(
     `WITH kept AS (
        SELECT x, sum(k) AS k
-       FROM (SELECT ${x} AS x, count(*) AS k FROM ${ident(ctx.table)} GROUP BY ${ctx.v})
+       FROM (SELECT ${x} AS x, ${ctx.count} AS k FROM ${ident(ctx.counts)})
        WHERE x IS NOT NULL AND x NOT IN (${excluded.join(', ')})
        GROUP BY x),
      ranked AS (
@@ -155,7 +155,7 @@ async function restStats(ctx: ColumnContext, x: string, excluded: readonly numbe
 
 async function distinctValues(ctx: ColumnContext, x: string): Promise<number[]> {
   const rows = await ctx.session.all<{ x: number }>(
-    `SELECT DISTINCT ${x} AS x FROM (SELECT DISTINCT ${ctx.v} FROM ${ident(ctx.table)}) WHERE ${x} IS NOT NULL ORDER BY x`,
+    `SELECT DISTINCT ${x} AS x FROM ${ident(ctx.counts)} WHERE ${x} IS NOT NULL ORDER BY x`,
   );
   return rows.map((r) => Number(r.x));
 }

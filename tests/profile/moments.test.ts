@@ -51,14 +51,17 @@ describe('the floating-point fallback', () => {
   const dirs: string[] = [];
   afterAll(() => dirs.forEach(removeDir));
 
-  async function momentsOf(values: number[]) {
+  /** With `grouped`, from the distinct values and their counts, as the profile computes them. */
+  async function momentsOf(values: number[], grouped = false) {
     const dir = tempDir();
     dirs.push(dir);
     const session = await Session.open({ spillDir: path.join(dir, 'spill') });
     try {
       await session.run(`CREATE TABLE t (x DOUBLE)`);
       for (const v of values) await session.run(`INSERT INTO t VALUES ($1)`, [v]);
-      return await columnMoments(session, 't', 'x', 'DOUBLE');
+      if (!grouped) return await columnMoments(session, 't', 'x', 'DOUBLE');
+      await session.run(`CREATE TABLE g AS SELECT x, count(*) AS k FROM t GROUP BY x`);
+      return await columnMoments(session, 'g', 'x', 'DOUBLE', 'k');
     } finally {
       session.close();
     }
@@ -67,10 +70,13 @@ describe('the floating-point fallback', () => {
   it('NumAcc2 scaled by 1e-10 (values printed with exponents) takes the fallback and still agrees to 9 digits', async () => {
     // Scaling NumAcc2 by 10^-10 scales the certified mean to 1.2e-10 and the sd to 1e-11 exactly.
     const values = numAcc('1').map((v) => Number(`${v}e-10`));
-    const moments = await momentsOf(values);
-    expect(moments.exact).toBe(false);
-    expect(agreeingDigits(moments.mean!, 1.2e-10)).toBeGreaterThanOrEqual(9);
-    expect(agreeingDigits(moments.sd!, 1e-11)).toBeGreaterThanOrEqual(9);
+    for (const grouped of [false, true]) {
+      const moments = await momentsOf(values, grouped);
+      expect(moments.exact).toBe(false);
+      expect(moments.n).toBe(1001);
+      expect(agreeingDigits(moments.mean!, 1.2e-10)).toBeGreaterThanOrEqual(9);
+      expect(agreeingDigits(moments.sd!, 1e-11)).toBeGreaterThanOrEqual(9);
+    }
   });
 
   it('NumAcc1 shifted to 1e16 (beyond exact decimal scaling) takes the fallback', async () => {
