@@ -98,6 +98,10 @@ async function main(): Promise<void> {
   const baseS = median(baselines) / 1000;
   const profileS = median(profiles.map((r) => r.ms)) / 1000;
   const checkS = median(checks.map((r) => r.ms)) / 1000;
+  const cpu = (runs: Run[]) => {
+    const values = runs.map((r) => r.cpuS).filter((c): c is number => c !== null);
+    return values.length ? `${median(values).toFixed(2)} CPU s` : 'CPU not measured';
+  };
   const peak = (runs: Run[]) => {
     const peaks = runs.map((r) => r.peakRss).filter((p): p is number => p !== null);
     return peaks.length ? `${(Math.max(...peaks) / 2 ** 20).toFixed(0)} MiB` : 'not measured';
@@ -106,10 +110,10 @@ async function main(): Promise<void> {
   const line = (label: string, value: string) => console.log(`${label.padEnd(30)} ${value}`);
   line('rows × columns', `${args.rows.toLocaleString('en-US')} × ${COLUMNS.length} (${(project.rawBytes / 2 ** 20).toFixed(0)} MiB CSV)`);
   line('DuckDB alone seconds', `${baseS.toFixed(2)}${of}`);
-  line('profile seconds', `${profileS.toFixed(2)}${of}, peak ${peak(profiles)}: ${summary(profiles)}`);
+  line('profile seconds', `${profileS.toFixed(2)}${of} (${cpu(profiles)}), peak ${peak(profiles)}: ${summary(profiles)}`);
   line('profile rows per second', Math.round(args.rows / profileS).toLocaleString('en-US'));
   line('ratio profile / DuckDB alone', (profileS / baseS).toFixed(2));
-  line('check seconds', `${checkS.toFixed(2)}${of}, peak ${peak(checks)}: ${summary(checks)}`);
+  line('check seconds', `${checkS.toFixed(2)}${of} (${cpu(checks)}), peak ${peak(checks)}: ${summary(checks)}`);
   line('check rows per second', Math.round(args.rows / checkS).toLocaleString('en-US'));
   line('ratio check / DuckDB alone', (checkS / baseS).toFixed(2));
   line('machine', `${availableParallelism()} CPUs, 1-minute load average ${loadBefore.toFixed(2)} before, ${loadavg()[0].toFixed(2)} after (other work slows both sides)`);

@@ -51,7 +51,8 @@ export async function checkTable(session: Session, options: CheckTableOptions): 
   const params = new Params();
   const plans = planColumns(columns, codebook, params);
   const sorts = sortExpressions(key, plans);
-  const context: CheckContext = { session, codebook, params, numbered: numberedRelation(table, key, sorts), sortCount: sorts.length, plans };
+  const helpers = (alias: string) => helperColumns(key, sorts, alias);
+  const context: CheckContext = { session, codebook, params, numbered: `(SELECT ${helpers('').join(', ')}, * FROM ${ident(table)})`, helpers, table, sortCount: sorts.length, plans };
 
   // Every check gets its place in this list; the query tags each discrepancy with that place.
   const items: Array<ValueCheck | RowCheck | Discrepancy> = [...columnPresence(codebook, plans)];
@@ -96,20 +97,23 @@ export async function checkTable(session: Session, options: CheckTableOptions): 
   return { rows: Number(rows.n), discrepancies };
 }
 
-/** The table with its row position, key text and sort keys under helper names, before its own columns. */
-function numberedRelation(table: string, key: readonly string[], sorts: readonly string[]): string {
-  // A row without a key value (possible outside a project) is named by its position instead.
-  const position = `'row ' || CAST(rowid + 1 AS VARCHAR)`;
-  const keyText = key.length ? `COALESCE(${keyExpression(key)}, ${position})` : position;
-  const select = [`rowid AS ${ident(HELPER.row)}`, `${keyText} AS ${ident(HELPER.key)}`, ...sorts.map((sql, i) => `${sql} AS ${ident(HELPER.sort(i))}`), '*'];
-  return `(SELECT ${select.join(', ')} FROM ${ident(table)})`;
+/**
+ * A row's position, key text and sort keys under helper names, as SQL over the checked table (under
+ * `alias` when given). A row without a key value (possible outside a project) is named by its position.
+ */
+function helperColumns(key: readonly string[], sorts: ReadonlyArray<(alias: string) => string>, alias: string): string[] {
+  const a = alias ? `${alias}.` : '';
+  const position = `'row ' || CAST(${a}rowid + 1 AS VARCHAR)`;
+  const keyText = key.length ? `COALESCE(${keyExpression(key, alias || undefined)}, ${position})` : position;
+  return [`${a}rowid AS ${ident(HELPER.row)}`, `${keyText} AS ${ident(HELPER.key)}`, ...sorts.map((sql, i) => `${sql(alias)} AS ${ident(HELPER.sort(i))}`)];
 }
 
 /** Rows are listed in key order; keys held as text sort by number first, so 9 comes before 10. */
-function sortExpressions(key: readonly string[], plans: readonly ColumnPlan[]): string[] {
+function sortExpressions(key: readonly string[], plans: readonly ColumnPlan[]): Array<(alias: string) => string> {
   return key.flatMap((k) => {
     const plan = plans.find((p) => p.name === k);
-    return plan?.sqlType === 'VARCHAR' ? [`TRY_CAST(${ident(k)} AS DOUBLE)`, ident(k)] : [ident(k)];
+    const column = (alias: string) => (alias ? `${alias}.${ident(k)}` : ident(k));
+    return plan?.sqlType === 'VARCHAR' ? [(alias: string) => `TRY_CAST(${column(alias)} AS DOUBLE)`, column] : [column];
   });
 }
 
@@ -191,19 +195,22 @@ function rowCheckSql(context: CheckContext, check: RowCheck, g: number): string 
 }
 
 /**
- * All value checks of one column in one piece: the conditions run once per distinct text, giving the
- * offending texts with the place of each check they break; the rows holding them are then joined in.
+ * All value checks of one column in one piece: the conditions run once per distinct value, giving the
+ * offending values with their text and the place of each check they break; only the rows holding them
+ * are then joined in and named, so the work per row is one hash lookup.
  */
 function valueChecksSql(context: CheckContext, plan: ColumnPlan, checks: Array<{ check: ValueCheck; g: number }>): string {
   const tagged = checks.map(({ check, g }) => `CASE WHEN ${check.condition} THEN ${g} END`);
-  const offending = `(SELECT v, g FROM (
-      SELECT v, unnest([${tagged.join(', ')}]) AS g
-      FROM (SELECT DISTINCT ${plan.text} AS v FROM ${context.numbered}))
+  const c = ident(plan.name);
+  const [raw, text, place] = ['__errata_raw', '__errata_text', '__errata_place'].map(ident);
+  const offending = `(SELECT ${raw}, v AS ${text}, g AS ${place} FROM (
+      SELECT ${raw}, v, unnest([${tagged.join(', ')}]) AS g
+      FROM (SELECT ${c} AS ${raw}, ${plan.text} AS v FROM (SELECT DISTINCT ${c} FROM ${ident(context.table)})))
     WHERE g IS NOT NULL)`;
-  const value = `numbered.${ident(HELPER.value)}`;
-  return `SELECT ${outputColumns(context, 'offending.g', value, 'NULL', 'numbered')}
-FROM (SELECT *, ${plan.text} AS ${ident(HELPER.value)} FROM ${context.numbered}) AS numbered
-JOIN ${offending} AS offending ON ${value} IS NOT DISTINCT FROM offending.v`;
+  const numbered = `(SELECT ${context.helpers('t').join(', ')}, offending.${text}, offending.${place}
+      FROM ${ident(context.table)} AS t JOIN ${offending} AS offending ON t.${c} IS NOT DISTINCT FROM offending.${raw})`;
+  return `SELECT ${outputColumns(context, `numbered.${place}`, `numbered.${text}`, 'NULL', 'numbered')}
+FROM ${numbered} AS numbered`;
 }
 
 interface FoundRow {

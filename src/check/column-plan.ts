@@ -92,6 +92,10 @@ export interface CheckContext {
   params: Params;
   /** SQL for the checked table with its helper columns (see HELPER in checks.ts). */
   numbered: string;
+  /** The helper columns of `numbered` as SQL over the checked table under `alias`, for pieces that filter rows first. */
+  helpers(alias: string): string[];
+  /** The checked table's name in the session. */
+  table: string;
   /** How many key columns the numbered table carries for sorting. */
   sortCount: number;
   plans: readonly ColumnPlan[];
