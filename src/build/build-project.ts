@@ -1,11 +1,11 @@
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { applyColumnTypes, decideColumnTypes, type ColumnTyping, type ValueType } from '../engine/column-types.js';
+import { applyColumnTypes, decideColumnTypes, type ColumnTyping } from '../engine/column-types.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { ProjectTree } from '../git/tree.js';
-import { loadCodebook, type Codebook } from '../project/codebook.js';
+import { declaredTypes, loadCodebook, type Codebook } from '../project/codebook.js';
 import { loadConfig, selectTables, type ProjectConfig, type TableConfig } from '../project/config.js';
 import { applyCorrections, createLineageTable, type Conflict } from '../corrections/apply-corrections.js';
 import { loadCorrections } from '../corrections/load-corrections.js';
@@ -173,9 +173,6 @@ async function touchedColumns(session: Session, lineage: string): Promise<Set<st
   return new Set(rows.map((r) => r.name));
 }
 
-function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {
-  return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as ValueType]));
-}
 
 export const rawName = (table: TableConfig, prefix = '') => `${prefix}raw_${table.name}`;
 export const cleanName = (table: TableConfig, prefix = '') => `${prefix}clean_${table.name}`;

@@ -1,10 +1,9 @@
-import { existsSync, readFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { formatOf, loadFile, type FileFormat } from '../engine/load-table.js';
 import { Session } from '../engine/session.js';
-import { parseCodebook } from '../project/codebook.js';
+import { readCodebookFile } from '../project/codebook.js';
 import { checkTable } from './check-table.js';
 import type { TableCheck } from './types.js';
 
@@ -25,10 +24,7 @@ export interface CheckFileOptions {
  *   const result = await checkFile('visits.csv', 'visits.codebook.yaml', { key: ['pid'] });
  */
 export async function checkFile(file: string, codebookFile: string, options: CheckFileOptions = {}): Promise<TableCheck> {
-  if (!existsSync(codebookFile)) {
-    throw new ErrataError('INPUT_MISSING', `no such codebook: ${codebookFile}`, { hint: 'Check the path given to --codebook.', data: { file: codebookFile } });
-  }
-  const codebook = parseCodebook(codebookFile, readFileSync(codebookFile, 'utf8'));
+  const codebook = readCodebookFile(codebookFile);
   const format = formatOf(file, options.format);
   if (!format) {
     throw new ErrataError('INPUT_FORMAT', `cannot tell the format of ${path.basename(file)} from its extension`, {

@@ -14,7 +14,7 @@ export async function loadTypedFile(
   session: Session,
   file: string,
   target: string,
-  options: { key?: readonly string[]; format?: FileFormat; delimiter?: string; keepText?: boolean } = {},
+  options: { key?: readonly string[]; format?: FileFormat; delimiter?: string; keepText?: boolean; declared?: ReadonlyMap<string, ValueType> } = {},
 ): Promise<Map<string, ValueType>> {
   const format = formatOf(file, options.format);
   if (!format) {
@@ -26,7 +26,7 @@ export async function loadTypedFile(
   const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
   if (key.length) await assertKeyValid(session, target, key, columns, file);
-  const typings = await decideColumnTypes(session, target, key, new Map(), { preserveText: !options.keepText });
+  const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText });
   if (!options.keepText) await applyColumnTypes(session, target, typings);
   const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
   for (const t of typings) types.set(t.column, t.type);

@@ -4,12 +4,15 @@ import { columnNames } from '../engine/load-table.js';
 import { loadTypedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
+import { declaredTypes, type Codebook } from '../project/codebook.js';
 import { profileTable } from './profile-table.js';
 import type { TableProfile } from './types.js';
 
 export interface FileProfileOptions {
   /** Key columns naming the rows in extremes and flags; without them rows go by data row number. */
   key?: string[];
+  /** A codebook: its declared types, missing values, limits and codes apply as in a project. */
+  codebook?: Codebook;
   memoryLimit?: string;
   spillDir?: string;
 }
@@ -28,12 +31,13 @@ export async function profileFile(file: string, options: FileProfileOptions = {}
   });
   try {
     const key = options.key ?? [];
-    await loadTypedFile(session, file, 'file', { key });
+    const codebook = options.codebook ?? null;
+    await loadTypedFile(session, file, 'file', { key, declared: declaredTypes(codebook) });
     const name = path.basename(file);
-    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook: null });
+    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook });
     const rowColumn = unusedName('row', await columnNames(session, 'file'));
     await session.run(`CREATE TABLE "numbered" AS SELECT row_number() OVER () AS ${ident(rowColumn)}, * FROM "file"`);
-    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook: null });
+    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook });
   } finally {
     session.close();
   }

@@ -2,11 +2,11 @@ import path from 'node:path';
 import { correctProject, prepareProject, rawName, type BuildProgress } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
-import { applyColumnTypes, decideColumnTypes, type ValueType } from '../engine/column-types.js';
+import { applyColumnTypes, decideColumnTypes } from '../engine/column-types.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { ProjectTree } from '../git/tree.js';
-import type { Codebook } from '../project/codebook.js';
+import { declaredTypes } from '../project/codebook.js';
 import { profileTable } from './profile-table.js';
 import type { TableProfile } from './types.js';
 
@@ -82,9 +82,6 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
   }
 }
 
-function declaredTypes(codebook: Codebook | null): Map<string, ValueType> {
-  return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as ValueType]));
-}
 
 /**
  * Follow the lineage's column events in the order they applied, back from each final name to the raw

@@ -1,3 +1,4 @@
+import { existsSync, readFileSync } from 'node:fs';
 import { ErrataError } from '../errors.js';
 import type { ProjectTree } from '../git/tree.js';
 import { YamlFile, assertSchema, nodeAt, type Schema } from './yaml-file.js';
@@ -169,4 +170,17 @@ export function scalarText(node: { value: unknown; source?: string; type?: strin
 
 export function fieldOf(codebook: Codebook | null, name: string): CodebookField | undefined {
   return codebook?.fields.find((f) => f.name === name);
+}
+
+/** The types a codebook declares, by column: what loading types those columns as. */
+export function declaredTypes(codebook: Codebook | null): Map<string, FieldType> {
+  return new Map((codebook?.fields ?? []).filter((f) => f.type).map((f) => [f.name, f.type as FieldType]));
+}
+
+/** A codebook file outside any project (`--codebook FILE`), read from disk. */
+export function readCodebookFile(file: string): Codebook {
+  if (!existsSync(file)) {
+    throw new ErrataError('INPUT_MISSING', `no such codebook: ${file}`, { hint: 'Check the path given to --codebook.', data: { file } });
+  }
+  return parseCodebook(file, readFileSync(file, 'utf8'));
 }

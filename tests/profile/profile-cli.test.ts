@@ -162,6 +162,33 @@ describe('errata profile', () => {
     }
   });
 
+  it('--files with --codebook applies its types, missing values and limits, and takes its primaryKey', async () => {
+    const file = path.join(root, 'coded.csv');
+    const codebook = path.join(root, 'coded.yaml');
+    writeFileSync(file, 'pid,smoker,score\nA1,1,3.5\nA2,2,-9\nA3,7,4\nA4,-9,5\n');
+    writeFileSync(codebook, 'primaryKey: pid\nfields:\n  - { name: pid, type: string }\n  - { name: smoker, type: integer, constraints: { enum: [1, 2] }, missingValues: ["-9"] }\n  - { name: score, type: number, constraints: { minimum: 0 } }\n');
+    try {
+      const result = await errata(root, ['profile', '--files', file, '--codebook', codebook, '--format', 'json']);
+      expect(result.stderr).toBe('');
+      expect(result.code).toBe(0);
+      const columns = JSON.parse(result.stdout).columns as Array<{ name: string; type: string; flags: Array<Record<string, unknown>> }>;
+      const smoker = columns.find((c) => c.name === 'smoker')!;
+      const score = columns.find((c) => c.name === 'score')!;
+      // Table Schema meaning: 7 is not in the enum [1, 2] (row A3); "-9" is declared missing yet held (row A4);
+      // score −9 is below the minimum 0 (row A2).
+      expect(smoker.type).toBe('integer');
+      expect(smoker.flags).toEqual(expect.arrayContaining([
+        expect.objectContaining({ kind: 'outside-codebook', count: 1, keys: ['A3'] }),
+        expect.objectContaining({ kind: 'sentinel', reason: 'declared-missing', count: 1, keys: ['A4'] }),
+      ]));
+      expect(score.type).toBe('number');
+      expect(score.flags).toEqual(expect.arrayContaining([expect.objectContaining({ kind: 'outside-codebook', count: 1, keys: ['A2'] })]));
+    } finally {
+      rmSync(file);
+      rmSync(codebook);
+    }
+  });
+
   it('refuses options that do not go together, with exit code 2', async () => {
     for (const args of [['--raw', '--compare'], ['--files', 'x.csv', '--raw'], ['--key', 'id']]) {
       const result = await errata(root, ['profile', ...args]);

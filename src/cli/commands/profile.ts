@@ -3,6 +3,7 @@ import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { compareProfiles } from '../../profile/compare-profiles.js';
 import { profileFile } from '../../profile/profile-file.js';
+import { readCodebookFile } from '../../project/codebook.js';
 import { profileProject, type ProfileProgress } from '../../profile/profile-project.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { renderComparisonJson, renderComparisonText, renderProfileJson, renderProfileText } from '../../render/profile.js';
@@ -16,6 +17,7 @@ interface ProfileCommandOptions {
   compare?: boolean;
   rev?: string;
   files?: string;
+  codebook?: string;
   key?: string;
   format: 'text' | 'json';
 }
@@ -29,20 +31,22 @@ export function registerProfile(program: Command): void {
     .option('--compare', 'raw and clean side by side, to see that the corrections worked')
     .option('--rev <rev>', 'as the project stood at this revision')
     .option('--files <file>', 'profile one file outside any project')
-    .option('--key <columns>', 'with --files: key column(s), comma-separated, naming rows in the output (default: data row numbers)')
+    .option('--key <columns>', 'with --files: key column(s), comma-separated, naming rows in the output (default: the codebook\'s primaryKey, else data row numbers)')
+    .option('--codebook <file>', 'with --files: a codebook whose types, missing values, limits and codes apply')
     .addOption(formatOption(['text', 'json'], 'text'))
     .action(async (table: string | undefined, options: ProfileCommandOptions) => {
       const output = createOutput(program.opts());
       if (options.files) {
         if (table || options.raw || options.compare || options.rev) throw usage('--files profiles one file on its own; it takes no TABLE, --raw, --compare or --rev');
-        const key = options.key?.split(',').map((k) => k.trim()).filter(Boolean);
+        const codebook = options.codebook ? readCodebookFile(options.codebook) : undefined;
+        const key = options.key?.split(',').map((k) => k.trim()).filter(Boolean) ?? (codebook?.primaryKey.length ? codebook.primaryKey : undefined);
         output.progress(`profiling ${path.basename(options.files)}…`);
-        const profile = await profileFile(options.files, { key });
+        const profile = await profileFile(options.files, { key, codebook });
         output.endProgress();
         output.out(options.format === 'json' ? renderProfileJson([profile]) : renderProfileText([profile], output.color));
         return;
       }
-      if (options.key) throw usage('--key goes with --files; a project table takes its key from errata.yaml');
+      if (options.key || options.codebook) throw usage('--key and --codebook go with --files; a project table takes its key from errata.yaml and its codebook from codebook/');
       if (options.raw && options.compare) throw usage('--compare already shows the raw side; use one or the other');
       const root = await projectRoot();
       const result = await profileProject({
