@@ -56,10 +56,30 @@ export function countColumn(column: string): string {
   return column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding';
 }
 
-/** Group a column once: its distinct values (null among them) with the rows holding each. */
-export async function createCounts(session: Session, table: string, column: string, counts: string): Promise<void> {
+/**
+ * Group a column once: its distinct values (null among them) with the rows holding each. A column
+ * already known to hold each value once (a checked single-column key) needs no grouping: a view
+ * counting every row once stands in.
+ */
+export async function createCounts(session: Session, table: string, column: string, unique = false): Promise<string> {
   const v = ident(column);
-  await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(counts)} AS SELECT ${v}, count(*) AS ${ident(countColumn(column))} FROM ${ident(table)} GROUP BY ${v}`);
+  const k = ident(countColumn(column));
+  await dropCounts(session);
+  if (unique) {
+    await session.run(`CREATE TEMP VIEW ${ident(COUNTS_VIEW)} AS SELECT ${v}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`);
+    return COUNTS_VIEW;
+  }
+  await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ${v}`);
+  return COUNTS_TABLE;
+}
+
+/** The relations `createCounts` makes, one column at a time. */
+const COUNTS_TABLE = '__errata_profile_counts';
+const COUNTS_VIEW = '__errata_profile_counts_view';
+
+export async function dropCounts(session: Session): Promise<void> {
+  await session.run(`DROP VIEW IF EXISTS ${ident(COUNTS_VIEW)}`);
+  await session.run(`DROP TABLE IF EXISTS ${ident(COUNTS_TABLE)}`);
 }
 
 /** A row condition equivalent to a value condition, with the value condition evaluated per distinct value. */

@@ -7,7 +7,7 @@ import { textSql } from '../engine/value-text.js';
 import { fieldOf, type Codebook } from '../project/codebook.js';
 import { codeVariantFlags } from './code-variants.js';
 import { codebookFlags } from './codebook-limits.js';
-import { EXAMPLE_KEYS, countColumn, createCounts, textShape, type ColumnContext } from './column-context.js';
+import { EXAMPLE_KEYS, countColumn, createCounts, dropCounts, textShape, type ColumnContext } from './column-context.js';
 import { frequencyTable, isCoded, valueCounts } from './frequencies.js';
 import { binLayout, histogram } from './histogram.js';
 import { columnMoments } from './moments.js';
@@ -36,9 +36,6 @@ interface Basics {
   quartiles: number[] | null;
 }
 
-/** The temporary table each column is grouped into, in turn. */
-const COUNTS = '__errata_profile_counts';
-
 /**
  * Profile every column of a table held in `session`: type, n, missing, distinct, most frequent values;
  * for coded variables a frequency table; for numeric ones mean, sd, quartiles (Hyndman–Fan type 7:
@@ -58,7 +55,9 @@ export async function profileTable(session: Session, table: string, options: Pro
   const profiles: ColumnProfile[] = [];
   for (const column of columns) {
     const field = fieldOf(options.codebook, column.name);
-    await createCounts(session, table, column.name, COUNTS);
+    // Loading has checked the key: a single key column holds each value once.
+    const isKey = options.key.includes(column.name);
+    const counts = await createCounts(session, table, column.name, isKey && options.key.length === 1);
     const ctx: ColumnContext = {
       session,
       table,
@@ -67,17 +66,18 @@ export async function profileTable(session: Session, table: string, options: Pro
       type: valueTypeOf(column.type),
       keySql: keyExpression(keyColumns),
       keyOrder: keyColumns.map(ident).join(', '),
-      counts: COUNTS,
+      counts,
       count: ident(countColumn(column.name)),
       field,
       missingCodes: (field?.missingValues ?? options.codebook?.missingValues ?? []).filter((code) => code !== ''),
       v: ident(column.name),
       text: textSql(ident(column.name), column.type),
-      shape: column.type === 'VARCHAR' ? await textShape(session, COUNTS, column.name) : null,
+      // Identifiers are not measurements: whether a key looks numeric is not a finding.
+      shape: column.type === 'VARCHAR' && !isKey ? await textShape(session, counts, column.name) : null,
     };
-    profiles.push(await profileColumn(ctx, rows, await gatherBasics(ctx), options.key.includes(column.name)));
+    profiles.push(await profileColumn(ctx, rows, await gatherBasics(ctx), isKey));
   }
-  await session.run(`DROP TABLE IF EXISTS ${ident(COUNTS)}`);
+  await dropCounts(session);
   return { table: options.name, source: options.source, rows, key: [...options.key], columns: profiles };
 }
 
@@ -158,14 +158,18 @@ async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
  * end come from the counts, so the rows are only filtered for them, not sorted.
  */
 async function extremes(ctx: ColumnContext): Promise<Extremes> {
-  const end = (direction: 'ASC' | 'DESC') =>
-    ctx.session.all<{ key: string; value: string }>(
-      `SELECT ${ctx.keySql} AS key, ${ctx.text} AS value
+  const end = (direction: 'ASC' | 'DESC') => `(SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})`;
+  // One pass over the rows holding a value at either end, ranked from each end.
+  const rows = await ctx.session.all<{ key: string; value: string; low: bigint; high: bigint }>(
+    `SELECT key, value, low, high FROM (
+       SELECT ${ctx.keySql} AS key, ${ctx.text} AS value,
+              row_number() OVER (ORDER BY ${ctx.v} ASC, ${ctx.keyOrder}) AS low,
+              row_number() OVER (ORDER BY ${ctx.v} DESC, ${ctx.keyOrder}) AS high
        FROM ${ident(ctx.table)}
-       WHERE ${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})
-       ORDER BY ${ctx.v} ${direction}, ${ctx.keyOrder}
-       LIMIT ${EXAMPLE_KEYS}`,
-    );
-  const pick = (rows: Array<{ key: string; value: string }>) => rows.map((r) => ({ key: r.key, value: r.value }));
-  return { lowest: pick(await end('ASC')), highest: pick(await end('DESC')) };
+       WHERE ${ctx.v} IN ${end('ASC')} OR ${ctx.v} IN ${end('DESC')})
+     WHERE low <= ${EXAMPLE_KEYS} OR high <= ${EXAMPLE_KEYS}`,
+  );
+  const pick = (rank: 'low' | 'high') =>
+    rows.filter((r) => Number(r[rank]) <= EXAMPLE_KEYS).sort((a, b) => Number(a[rank]) - Number(b[rank])).map((r) => ({ key: r.key, value: r.value }));
+  return { lowest: pick('low'), highest: pick('high') };
 }
