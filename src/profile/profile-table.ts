@@ -158,18 +158,14 @@ async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
  * end come from the counts, so the rows are only filtered for them, not sorted.
  */
 async function extremes(ctx: ColumnContext): Promise<Extremes> {
-  const end = (direction: 'ASC' | 'DESC') => `(SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})`;
-  // One pass over the rows holding a value at either end, ranked from each end.
-  const rows = await ctx.session.all<{ key: string; value: string; low: bigint; high: bigint }>(
-    `SELECT key, value, low, high FROM (
-       SELECT ${ctx.keySql} AS key, ${ctx.text} AS value,
-              row_number() OVER (ORDER BY ${ctx.v} ASC, ${ctx.keyOrder}) AS low,
-              row_number() OVER (ORDER BY ${ctx.v} DESC, ${ctx.keyOrder}) AS high
+  const end = (direction: 'ASC' | 'DESC') =>
+    ctx.session.all<{ key: string; value: string }>(
+      `SELECT ${ctx.keySql} AS key, ${ctx.text} AS value
        FROM ${ident(ctx.table)}
-       WHERE ${ctx.v} IN ${end('ASC')} OR ${ctx.v} IN ${end('DESC')})
-     WHERE low <= ${EXAMPLE_KEYS} OR high <= ${EXAMPLE_KEYS}`,
-  );
-  const pick = (rank: 'low' | 'high') =>
-    rows.filter((r) => Number(r[rank]) <= EXAMPLE_KEYS).sort((a, b) => Number(a[rank]) - Number(b[rank])).map((r) => ({ key: r.key, value: r.value }));
-  return { lowest: pick('low'), highest: pick('high') };
+       WHERE ${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})
+       ORDER BY ${ctx.v} ${direction}, ${ctx.keyOrder}
+       LIMIT ${EXAMPLE_KEYS}`,
+    );
+  const pick = (rows: Array<{ key: string; value: string }>) => rows.map((r) => ({ key: r.key, value: r.value }));
+  return { lowest: pick(await end('ASC')), highest: pick(await end('DESC')) };
 }
