@@ -1,12 +1,13 @@
 #!/usr/bin/env node
 // A guided run of errata on the demo study: create it in a fresh temporary folder, then build, show the
-// audit trail, explain a few corrected cells and verify the committed outputs, each with the real CLI.
+// audit trail, explain a few corrected cells, verify the committed outputs and write the HTML report,
+// each with the real CLI.
 // Needs dist/ (npm install builds it; otherwise npm run build). Exits non-zero when a step fails.
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const repo = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const cli = path.join(repo, 'bin', 'errata.js');
@@ -19,6 +20,7 @@ if (!existsSync(path.join(repo, 'dist', 'cli', 'main.js'))) {
 const bold = (text) => (process.stdout.isTTY && !process.env.NO_COLOR ? `\x1b[1m${text}\x1b[22m` : text);
 const parent = mkdtempSync(path.join(tmpdir(), 'errata-demo-'));
 const project = path.join(parent, 'korvain-valley-cohort');
+const report = path.join(parent, 'report.html');
 
 const steps = [
   {
@@ -57,6 +59,11 @@ const steps = [
     what: 'Rebuild from raw + corrections and compare with the committed clean/ outputs, byte for byte.',
     args: ['verify'],
   },
+  {
+    title: 'A report for reviewers',
+    what: 'One self-contained HTML page: overview, raw against clean with plots, the changed cells, the review and the audit trail.',
+    args: ['report', '--out', report],
+  },
 ];
 
 console.log(`errata demo in ${project}`);
@@ -64,7 +71,7 @@ for (const [index, step] of steps.entries()) {
   console.log('');
   console.log(bold(`${index + 1}. ${step.title}`));
   console.log(step.what);
-  console.log(`$ errata ${step.args.map((a) => (a === project ? path.basename(project) : a)).join(' ')}`);
+  console.log(`$ errata ${step.args.map((a) => (a === project ? path.basename(project) : a === report ? '../report.html' : a)).join(' ')}`);
   const started = process.hrtime.bigint();
   const result = spawnSync(process.execPath, [cli, ...step.args], { cwd: step.cwd ?? project, stdio: 'inherit' });
   const seconds = Number(process.hrtime.bigint() - started) / 1e9;
@@ -76,6 +83,7 @@ for (const [index, step] of steps.entries()) {
 }
 console.log('');
 console.log(bold('All steps passed.'));
+console.log(`Open the report in a browser: ${pathToFileURL(report).href}`);
 console.log(`The project stays in ${project}. To explore it:`);
 console.log(`  cd ${project} && node ${cli} why baseline KV-00264 cigarettes_per_day`);
 console.log('  (or `npm link` once in this checkout, then plain `errata …` works anywhere)');

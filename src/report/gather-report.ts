@@ -1,0 +1,117 @@
+import path from 'node:path';
+import { auditTrail, type AuditEntry } from '../audit/audit-trail.js';
+import { fileOrigins } from '../audit/history.js';
+import { buildProject } from '../build/build-project.js';
+import type { RawCache } from '../build/load-raw.js';
+import { checkProject, type ProjectCheck } from '../check/check-project.js';
+import { diffRevisions } from '../diff/revision-diff.js';
+import { ErrataError } from '../errors.js';
+import { RevisionTree } from '../git/tree.js';
+import { compareProfiles } from '../profile/compare-profiles.js';
+import { profileProject } from '../profile/profile-project.js';
+import { loadNotes } from '../project/notes.js';
+import { loadPeople } from '../project/people.js';
+import { reviewRange } from '../review/review-range.js';
+import type { ReportData, ReportRange, RuleCount } from './types.js';
+
+export type ReportPhase = 'profile' | 'check' | 'diff' | 'review' | 'audit';
+
+/** What the report is gathering now, and for which table when the step is about one. */
+export interface ReportProgress {
+  phase: ReportPhase;
+  table?: string;
+}
+
+export interface GatherReportOptions {
+  root: string;
+  range: ReportRange;
+  /** At most this many changed cells are read from the diff (all are counted). */
+  cellLimit: number;
+  /** Where DuckDB may spill; the only folder SQL can touch once inputs are loaded. */
+  workDir: string;
+  cache?: RawCache;
+  onProgress?: (event: ReportProgress) => void;
+}
+
+/**
+ * Gather what a report shows, at the head of the range unless said otherwise: the raw-against-clean
+ * profile of every table, the codebook discrepancies on both sides counted by rule, the cell-level diff
+ * from base to head, the review of the range, the audit trail and the approval notes. Nothing is written.
+ *
+ * @example
+ *   const data = await gatherReport({ root, range: await reportRange(root), cellLimit: 100_000, workDir });
+ *   renderReportHtml(data);
+ */
+export async function gatherReport(options: GatherReportOptions): Promise<ReportData> {
+  const { root, range } = options;
+  const blobs = path.join(root, '.errata', 'cache', 'blobs');
+  const headTree = await RevisionTree.at(root, range.head, blobs);
+  const baseTree = await RevisionTree.at(root, range.base, blobs);
+  const progress = (phase: ReportPhase) => (event: object) => options.onProgress?.({ phase, table: 'table' in event ? String(event.table) : undefined });
+
+  const profile = await profileProject({ tree: headTree, raw: true, clean: true, workDir: options.workDir, cache: options.cache, onProgress: progress('profile') });
+  const rawCheck = await checkOrNone({ tree: headTree, raw: true, workDir: options.workDir, cache: options.cache, onProgress: progress('check') });
+  const cleanCheck = await checkOrNone({ tree: headTree, raw: false, workDir: options.workDir, cache: options.cache, onProgress: progress('check') });
+  const tables = profile.tables.map((t) => ({
+    name: t.name,
+    comparison: compareProfiles(t.raw!, t.clean!, t.renamed),
+    discrepancies: countByRule(rawCheck, cleanCheck, t.name),
+  }));
+
+  const diff = await diffRevisions({
+    base: baseTree,
+    head: headTree,
+    cellLimit: options.cellLimit,
+    workDir: options.workDir,
+    cache: options.cache,
+    onProgress: progress('diff'),
+  });
+  const review = await reviewRange({ root, base: range.base, head: range.head, workDir: options.workDir, cache: options.cache, onProgress: progress('review') });
+
+  const build = await buildProject({ tree: headTree, workDir: options.workDir, cache: options.cache, keepRaw: false, onProgress: progress('audit') });
+  let audit: AuditEntry[];
+  const notes = await loadNotes(headTree);
+  try {
+    const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
+    audit = await auditTrail(build, notes, await fileOrigins(headTree), people);
+  } finally {
+    build.session.close();
+  }
+  return {
+    range,
+    tables,
+    diffs: diff.diffs,
+    audit,
+    notes: [...notes.values()].sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0)),
+    review,
+  };
+}
+
+/** A project without any codebook has nothing to check; the report says so instead of failing. */
+async function checkOrNone(options: Parameters<typeof checkProject>[0]): Promise<ProjectCheck | null> {
+  try {
+    return await checkProject(options);
+  } catch (error) {
+    if (error instanceof ErrataError && error.code === 'INPUT_MISSING') return null;
+    throw error;
+  }
+}
+
+/** Discrepancies per rule on each side, rules in order of first appearance (raw first). */
+export function countByRule(raw: ProjectCheck | null, clean: ProjectCheck | null, table: string): RuleCount[] | null {
+  const rawTable = raw?.tables.find((t) => t.table === table);
+  const cleanTable = clean?.tables.find((t) => t.table === table);
+  if (!rawTable && !cleanTable) return null;
+  const counts = new Map<string, RuleCount>();
+  const add = (side: 'raw' | 'clean', list: typeof rawTable) => {
+    for (const d of list?.discrepancies ?? []) {
+      const entry = counts.get(d.rule) ?? { rule: d.rule, severity: d.severity, raw: 0, clean: 0 };
+      entry[side] += 1;
+      if (d.severity === 'error') entry.severity = 'error';
+      counts.set(d.rule, entry);
+    }
+  };
+  add('raw', rawTable);
+  add('clean', cleanTable);
+  return [...counts.values()];
+}
