@@ -37,8 +37,15 @@ export async function explainChangedCells(
   const ids = [...newCorrections];
   const inRange = ids.length ? `"correction" IN (${ids.map((_, i) => `$${i + 1}`).join(', ')})` : 'false';
   await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(t('lineage'))} AS
-    SELECT "key", "column", "change" FROM ${ident(head.lineageTable)} WHERE ${inRange}`, ids);
-  const touchedColumns = (await session.all<{ c: string }>(`SELECT DISTINCT "column" AS c FROM ${ident(t('lineage'))} WHERE "key" IS NULL AND "column" IS NOT NULL`)).map((r) => r.c);
+    SELECT "key", "column", "new", "change" FROM ${ident(head.lineageTable)} WHERE ${inRange}`, ids);
+  // Column events name the column they touched; a rename also makes its new name appear.
+  const touchedColumns = (
+    await session.all<{ c: string }>(
+      `SELECT DISTINCT c FROM (
+         SELECT "column" AS c FROM ${ident(t('lineage'))} WHERE "key" IS NULL AND "column" IS NOT NULL
+         UNION ALL SELECT "new" FROM ${ident(t('lineage'))} WHERE "change" = 'column-renamed')`,
+    )
+  ).map((r) => r.c);
   const deletedRows = new Set((await session.all<{ k: string }>(`SELECT "key" AS k FROM ${ident(t('lineage'))} WHERE "change" = 'row-deleted'`)).map((r) => r.k));
 
   // A new delivery explains the cells whose raw value differs; without one, nothing can be explained so.

@@ -134,6 +134,23 @@ describe('errata review passes a compliant history', () => {
     expect(r.cellsByDelivery).toBe(0);
     expect(r.correctionsReviewed).toEqual([INCHES_FILE]);
   });
+
+  it('a column renamed by one correction and edited by a later one is explained by them', async () => {
+    const { root, base } = await project(BASE);
+    writeFiles(root, { [NOTE_1_FILE]: NOTE_1 });
+    await commit(root, 'Approval for the renamed smoking column');
+    writeFiles(root, {
+      'corrections/visits/0001-rename.yaml': 'reason: The export named the smoking question smoker\napproval: N-0001\nsteps:\n  - rename: { smoker: smoking_status }\n',
+      'corrections/visits/0002-unknown.yaml': 'reason: 9 means not known\napproval: N-0001\nsteps:\n  - missing: { columns: [smoking_status], values: [9] }\n',
+    });
+    const head = await commit(root, 'Rename the smoking column and mark 9 as not known');
+
+    const r = await review(root, `${base}..${head}`);
+    // By hand: smoker is removed and smoking_status added (a rename, recorded as a column event), and
+    // participant 3's 9 becomes missing: every change traces to the two corrections.
+    expect(r.findings).toEqual([]);
+    expect(r.code).toBe(0);
+  });
 });
 
 describe('errata review finds corrections without a valid approval', () => {
