@@ -28,3 +28,8 @@ export function checkProgressText(event: CheckProgress): string {
 export function tableCache(root: string): { dir: string; write: true } {
   return { dir: path.join(root, '.errata', 'cache', 'tables'), write: true };
 }
+
+/** Finished revision diffs under .errata/cache/diffs, named by their inputs. */
+export function diffCache(root: string): { dir: string } {
+  return { dir: path.join(root, '.errata', 'cache', 'diffs') };
+}

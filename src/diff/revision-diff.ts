@@ -7,6 +7,7 @@ import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
 import { diffTables } from './table-diff.js';
 import { emptyLike } from '../engine/load-table.js';
+import { diffCacheId, readCachedDiff, writeCachedDiff, type DiffCache } from './diff-cache.js';
 import type { TableDiff } from './types.js';
 
 export interface RevisionDiffOptions {
@@ -19,6 +20,8 @@ export interface RevisionDiffOptions {
   cellLimit?: number;
   workDir: string;
   cache?: RawCache;
+  /** Finished diffs kept by their inputs, so a repeated diff of the same ends is read back. */
+  diffCache?: DiffCache;
   memoryLimit?: string;
   onProgress?: (event: BuildProgress | { phase: 'diff'; table: string }) => void;
 }
@@ -50,6 +53,9 @@ export async function diffRevisions(options: RevisionDiffOptions): Promise<Revis
       });
     }
     await session.lockDown([options.workDir]);
+    const cacheId = options.diffCache ? diffCacheId({ base: fingerprint(base), head: fingerprint(head), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
+    const cached = options.diffCache ? readCachedDiff<RevisionDiff>(options.diffCache, cacheId) : null;
+    if (cached) return cached;
     const baseTables = await finish(session, base, options);
     const headTables = await finish(session, head, options);
     const names = [...new Set([...headTables.keys(), ...baseTables.keys()])].sort();
@@ -75,10 +81,18 @@ export async function diffRevisions(options: RevisionDiffOptions): Promise<Revis
       ...[...baseTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'base' as const }))),
       ...[...headTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'head' as const }))),
     ];
-    return { diffs, conflicts };
+    const result = { diffs, conflicts };
+    if (options.diffCache) writeCachedDiff(options.diffCache, cacheId, result);
+    return result;
   } finally {
     session.close();
   }
+}
+
+/** What an end's build depends on: its configuration and the blob ids of every file it reads. */
+function fingerprint(prepared: PreparedProject | null): unknown {
+  if (!prepared) return null;
+  return prepared.tables.map((t) => ({ table: { ...t.table, line: undefined }, inputs: t.inputs, sources: t.sources }));
 }
 
 interface Finished {

@@ -10,7 +10,7 @@ import { renderDiffMarkdown, renderMultisetMarkdown } from '../../render/diff-ma
 import { renderDiffText, renderMultisetText } from '../../render/diff-text.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { resolveRevision } from '../../git/repo.js';
-import { tableCache } from '../build-session.js';
+import { diffCache, tableCache } from '../build-session.js';
 import { projectRoot, projectTree, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -81,6 +81,7 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
         cellLimit: limit,
         workDir: work,
         cache: tableCache(root),
+        diffCache: diffCache(root),
         onProgress: (e) => output.progress(e.phase === 'diff' ? `diffing ${e.table}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
       });
       output.endProgress();
