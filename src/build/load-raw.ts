@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, renameSync } from 'node:fs';
+import { accessSync, constants, existsSync, mkdirSync, readdirSync, renameSync, rmSync } from 'node:fs';
+import { faultPoint } from '../fault.js';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { columnNames, formatOf, loadFile, stackTables, type InputFile } from '../engine/load-table.js';
@@ -8,6 +9,7 @@ import { assertKeyValid } from '../engine/keys.js';
 import type { Session } from '../engine/session.js';
 import type { ProjectTree } from '../git/tree.js';
 import type { TableConfig } from '../project/config.js';
+import { processAlive } from '../process-alive.js';
 
 export interface RawInput {
   path: string;
@@ -32,20 +34,86 @@ function cacheFile(cache: RawCache, blob: string, input: Omit<InputFile, 'localP
   return path.join(cache.dir, `${blob}-${how}.parquet`);
 }
 
+/**
+ * An entry appears under its final name only by rename, after it was written in full, so a run
+ * killed mid-write leaves at most a `.tmp` file, which is never read and is removed by a later run.
+ * An entry that cannot be read all the same (a damaged disk) is parsed again and replaced.
+ */
 async function loadCached(session: Session, tree: ProjectTree, input: Omit<InputFile, 'localPath'>, target: string, blob: string, cache?: RawCache): Promise<string[]> {
   const cached = cache ? cacheFile(cache, blob, input) : null;
   if (cached && existsSync(cached)) {
-    await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(cached)})`);
-    return columnNames(session, target);
+    try {
+      await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(cached)})`);
+      return await columnNames(session, target);
+    } catch {
+      rmSync(cached, { force: true });
+    }
   }
   const columns = await loadFile(session, { ...input, localPath: await tree.localPath(input.name) }, target);
-  if (cached && cache?.write && input.format !== 'parquet') {
-    mkdirSync(cache.dir, { recursive: true });
-    const temp = `${cached}.${process.pid}.tmp`;
-    await session.run(`COPY ${ident(target)} TO ${literal(temp)} (FORMAT parquet, COMPRESSION zstd)`);
-    renameSync(temp, cached);
-  }
+  if (input.format !== 'parquet') await assertNoNulBytes(session, target, columns, input.name, input.format === 'jsonl' ? 0 : 1);
+  if (cached && cache?.write && input.format !== 'parquet') await writeCacheEntry(session, target, cached);
   return columns;
+}
+
+/**
+ * A NUL byte is no character any survey or lab system means to deliver: it marks a damaged file, and
+ * would travel on into the clean CSV, where many programs stop reading at it.
+ */
+async function assertNoNulBytes(session: Session, table: string, columns: readonly string[], file: string, headerLines: number): Promise<void> {
+  if (columns.length === 0) return;
+  // rowid of a table created from a file is the record's position in it.
+  const rows = await session.all<Record<string, unknown> & { __errata_row: bigint }>(`
+    SELECT rowid AS "__errata_row", * FROM ${ident(table)}
+    WHERE ${columns.map((c) => `contains(${ident(c)}, chr(0))`).join(' OR ')}
+    ORDER BY rowid
+    LIMIT 1`);
+  if (rows.length === 0) return;
+  const row = Number(rows[0].__errata_row) + 1;
+  const column = columns.find((c) => String(rows[0][c] ?? '').includes('\0'));
+  throw new ErrataError('CSV_MALFORMED', `record ${row} holds a NUL byte in column "${column}"`, {
+    hint: 'The file is damaged or not text; ask for it to be exported again and deliver it as a new raw file.',
+    data: { file, line: row + headerLines, column },
+  });
+}
+
+async function writeCacheEntry(session: Session, table: string, cached: string): Promise<void> {
+  const dir = path.dirname(cached);
+  try {
+    mkdirSync(dir, { recursive: true });
+  } catch {
+    return; // a read-only checkout: work without the cache
+  }
+  removeAbandonedTemps(dir);
+  const temp = `${cached}.${process.pid}.tmp`;
+  faultPoint('cache-start');
+  try {
+    await session.run(`COPY ${ident(table)} TO ${literal(temp)} (FORMAT parquet, COMPRESSION zstd)`);
+  } catch (error) {
+    rmSync(temp, { force: true });
+    if (!existsSync(dir) || !canWrite(dir)) return;
+    throw error;
+  }
+  faultPoint('cache-written');
+  renameSync(temp, cached);
+  faultPoint('cache-renamed');
+}
+
+function canWrite(dir: string): boolean {
+  try {
+    accessSync(dir, constants.W_OK);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/** `.tmp` files of runs that were killed while writing: their process is gone, so nothing will finish them. */
+function removeAbandonedTemps(dir: string): void {
+  for (const name of readdirSync(dir)) {
+    const pid = Number(/\.(\d+)\.tmp$/.exec(name)?.[1]);
+    if (!pid || pid === process.pid || processAlive(pid)) continue;
+    rmSync(path.join(dir, name), { force: true });
+  }
 }
 
 /**

@@ -3,7 +3,7 @@ import { randomBytes } from 'node:crypto';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { ident, literal } from '../engine/sql.js';
-import { textSql } from '../engine/value-text.js';
+import { neutraliseFormulaSql, textSql } from '../engine/value-text.js';
 import { valueTypeOf } from '../engine/column-types.js';
 import { keyOrder } from './order.js';
 import { VERSION } from '../version.js';
@@ -11,6 +11,7 @@ import { faultPoint } from '../fault.js';
 import type { ProjectBuild, TableBuild } from './build-project.js';
 import { sha256Of, sha256OfFile } from './hash.js';
 import { MANIFEST_FILE, parseManifest, renderManifest, type Manifest, type TableManifest } from './manifest.js';
+import { processAlive } from '../process-alive.js';
 
 /** Outputs written to a staging folder, hashed, not yet in place. */
 export interface StagedOutputs {
@@ -57,15 +58,6 @@ function removeAbandonedStages(workDir: string): void {
   }
 }
 
-function processAlive(pid: number): boolean {
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch (error) {
-    return (error as NodeJS.ErrnoException).code === 'EPERM';
-  }
-}
-
 /** Entries of other tables in the current manifest survive a build of one table. */
 function existingTables(root: string, build: ProjectBuild): Record<string, TableManifest> {
   const file = path.join(root, MANIFEST_FILE);
@@ -82,10 +74,9 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   const dataFile = path.join(stageDir, `${name}.csv`);
   const lineageFile = path.join(stageDir, `${name}.lineage.parquet`);
   // Only DOUBLE needs errata's own rendering (whole values without ".0"); the CSV writer renders every
-  // other type exactly as CAST to text would, and much faster.
-  const select = table.columns
-    .map((c) => (valueTypeOf(c.type) === 'number' ? `${textSql(`src.${ident(c.name)}`, c.type)} AS ${ident(c.name)}` : `src.${ident(c.name)}`))
-    .join(', ');
+  // other type exactly as CAST to text would, and much faster. Text goes through the formula guard, so
+  // a delivered `=HYPERLINK(...)` opens in a spreadsheet as text (drop one leading ' to recover it).
+  const select = table.columns.map((c) => `${cellSql(`src.${ident(c.name)}`, c.type)} AS ${ident(c.name)}`).join(', ');
   await session.run(`COPY (SELECT ${select} FROM ${ident(table.cleanTable)} AS src ORDER BY ${keyOrder(table.config.key, 'src')})
     TO ${literal(dataFile)} (FORMAT csv, HEADER true, DELIMITER ',', QUOTE '"', ESCAPE '"', NULL '', NEW_LINE '\\n')`);
   await session.run(`COPY (SELECT * FROM ${ident(table.lineageTable)}
@@ -102,6 +93,12 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
       lineage: { path: table.config.lineage, sha256: await sha256OfFile(lineageFile), records: Number(records.n) },
     },
   };
+}
+
+function cellSql(valueSql: string, sqlType: string): string {
+  if (valueTypeOf(sqlType) === 'number') return textSql(valueSql, sqlType);
+  if (sqlType === 'VARCHAR') return neutraliseFormulaSql(valueSql);
+  return valueSql;
 }
 
 /**

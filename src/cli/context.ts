@@ -2,6 +2,7 @@ import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { findRepoRoot } from '../git/repo.js';
 import { RevisionTree, WorkingTree, type ProjectTree } from '../git/tree.js';
+import { writableDir } from '../scratch.js';
 
 /** Locate the data project (the git repository holding errata.yaml) from the current folder. */
 export async function projectRoot(start = process.cwd()): Promise<string> {
@@ -20,6 +21,7 @@ export async function projectTree(root: string, revision?: string): Promise<Proj
   return RevisionTree.at(root, revision, path.join(root, '.errata', 'cache', 'blobs'));
 }
 
+/** Scratch space for the engine and for staging outputs: .errata/tmp, or a temporary folder in a read-only checkout. */
 export function workDir(root: string): string {
-  return path.join(root, '.errata', 'tmp');
+  return writableDir(path.join(root, '.errata', 'tmp'));
 }

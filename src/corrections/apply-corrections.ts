@@ -127,12 +127,24 @@ class StepContext {
     if (step.kind === 'derive') for (const d of step.columns) await check(d.expression, `derive ${d.name}`);
   }
 
+  /** A statement of this step failed: name the file and line; a time limit keeps its own code and hint. */
+  private failed(error: unknown): ErrataError {
+    if (error instanceof ErrataError && error.code === 'TIMEOUT') {
+      return new ErrataError('TIMEOUT', `step ${this.number} (${this.step.kind}): ${error.message}`, {
+        hint: error.hint,
+        data: { ...error.data, file: this.correction.file, line: this.step.origin.line },
+        cause: error,
+      });
+    }
+    return this.fail(engineMessage(error), 'Check the expression and the types of the columns it uses (see `errata profile`).', undefined, error);
+  }
+
   /** Run SQL belonging to this step; a failure names the correction file and line. */
   async run(sql: string, params?: Params): Promise<void> {
     try {
       await this.session.runRaw(sql, params);
     } catch (error) {
-      throw this.fail(engineMessage(error), 'Check the expression and the types of the columns it uses (see `errata profile`).', undefined, error);
+      throw this.failed(error);
     }
   }
 
@@ -140,7 +152,7 @@ class StepContext {
     try {
       return await this.session.allRaw<T>(sql, params);
     } catch (error) {
-      throw this.fail(engineMessage(error), 'Check the expression and the types of the columns it uses (see `errata profile`).', undefined, error);
+      throw this.failed(error);
     }
   }
 

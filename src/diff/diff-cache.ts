@@ -39,6 +39,10 @@ export function writeCachedDiff(cache: DiffCache, id: string, value: unknown): v
     renameSync(temp, file);
   } catch {
     // A cache that cannot be written only costs time on the next run.
-    rmSync(temp, { force: true });
+    try {
+      rmSync(temp, { force: true });
+    } catch {
+      /* nothing was written */
+    }
   }
 }

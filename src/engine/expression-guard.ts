@@ -7,7 +7,10 @@ import { literal } from './sql.js';
  * Correction files come from pull requests, so their expressions are untrusted. An expression must
  * parse as exactly one scalar expression: no statements, no subqueries, no table functions (file
  * readers), no settings. Checked by wrapping it with a random marker and asking DuckDB's own parser
- * for the tree; anything that escapes the wrapper changes the tree's shape and is refused.
+ * for the tree; anything that escapes the wrapper changes the tree's shape and is refused. Each function
+ * named in the tree must be a scalar function in DuckDB's catalogue (not an aggregate, a table function
+ * or a setting) and not one that reaches outside the row. What passes still runs in a locked-down
+ * session under a time limit (session.ts).
  */
 export async function assertSafeExpression(session: Session, expression: string, where: { file: string; line: number; what: string }): Promise<void> {
   const refuse = (why: string) =>
@@ -43,8 +46,28 @@ export async function assertSafeExpression(session: Session, expression: string,
     (node.modifiers?.length ?? 0) === 0 &&
     (node.cte_map?.map?.length ?? 0) === 0;
   if (!shapeOk) throw refuse('it is not a single expression');
-  const problem = findForbidden(node.select_list?.[0]);
+  const problem = findForbidden(node.select_list?.[0], await functionKinds(session));
   if (problem) throw refuse(problem);
+}
+
+/** Function name (lower case) → the kinds DuckDB's catalogue has under that name (scalar, aggregate, table...). */
+type FunctionKinds = Map<string, Set<string>>;
+const kindsBySession = new WeakMap<Session, Promise<FunctionKinds>>();
+
+function functionKinds(session: Session): Promise<FunctionKinds> {
+  let kinds = kindsBySession.get(session);
+  if (!kinds) {
+    kinds = session.all<{ name: string; kind: string }>(`SELECT DISTINCT lower(function_name) AS name, function_type AS kind FROM duckdb_functions()`).then((rows) => {
+      const map: FunctionKinds = new Map();
+      for (const { name, kind } of rows) {
+        if (!map.has(name)) map.set(name, new Set());
+        map.get(name)!.add(kind);
+      }
+      return map;
+    });
+    kindsBySession.set(session, kinds);
+  }
+  return kinds;
 }
 
 interface Statement {
@@ -65,14 +88,14 @@ interface Statement {
  * changes from run to run (clock, random numbers), which would make a rebuild differ from the build.
  */
 const FORBIDDEN_FUNCTION =
-  /^(read_|glob$|sniff_csv|parquet_|query$|query_table|current_|getenv|setseed$|nextval|currval|duckdb_|pragma_|which_secret|load_|install_|system$|export_|import_|random$|uuid|gen_random_uuid$|now$|today$|get_current_|transaction_timestamp$|statement_timestamp$|localtime|localtimestamp)/i;
+  /^(read_|glob$|sniff_csv|parquet_|query$|query_table|current_|getenv|setseed$|nextval|currval|duckdb_|pragma_|which_secret|load_|install_|system$|export_|import_|random$|uuid|gen_random_uuid$|now$|today$|get_current_|transaction_timestamp$|statement_timestamp$|localtime|localtimestamp|getvariable$|txid_|uuidv|json_deserialize_sql$|enable_|disable_|checkpoint$|force_checkpoint$)/i;
 
 const CLOCK_KEYWORD = /^(current_date|current_time|current_timestamp|localtime|localtimestamp|current_user|current_role|session_user)$/i;
 
-function findForbidden(node: unknown): string | null {
+function findForbidden(node: unknown, kinds: FunctionKinds): string | null {
   if (Array.isArray(node)) {
     for (const item of node) {
-      const found = findForbidden(item);
+      const found = findForbidden(item, kinds);
       if (found) return found;
     }
     return null;
@@ -81,8 +104,15 @@ function findForbidden(node: unknown): string | null {
   const record = node as Record<string, unknown>;
   if (record.class === 'SUBQUERY' || record.type === 'SUBQUERY') return 'subqueries are not allowed';
   if (record.class === 'WINDOW') return 'window functions are not allowed (a correction works row by row)';
-  if (record.class === 'FUNCTION' && typeof record.function_name === 'string' && FORBIDDEN_FUNCTION.test(record.function_name)) {
-    return `the function ${record.function_name}() reaches outside the table`;
+  if (record.class === 'FUNCTION' && typeof record.function_name === 'string') {
+    const name = record.function_name;
+    if (FORBIDDEN_FUNCTION.test(name)) return `the function ${name}() reaches outside the table`;
+    // Only functions that compute one value from one row's values: an aggregate or a table function
+    // (a file reader, a generator of rows) has no place in a row-by-row correction.
+    const found = kinds.get(name.toLowerCase());
+    if (found && !found.has('scalar') && !found.has('macro')) {
+      return found.has('aggregate') ? `${name}() is an aggregate; a correction works row by row` : `${name}() is not a scalar function`;
+    }
   }
   if (record.class === 'COLUMN_REF' && Array.isArray(record.column_names) && record.column_names.length > 1) {
     return 'qualified names (table.column) are not allowed; name the column alone';
@@ -92,7 +122,7 @@ function findForbidden(node: unknown): string | null {
     return `${String(record.column_names[0])} changes from run to run, so a rebuild would differ`;
   }
   for (const value of Object.values(record)) {
-    const found = findForbidden(value);
+    const found = findForbidden(value, kinds);
     if (found) return found;
   }
   return null;

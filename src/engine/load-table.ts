@@ -1,6 +1,7 @@
 import { closeSync, existsSync, openSync, readSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
+import { lineEndingProblem } from './line-endings.js';
 import type { Session } from './session.js';
 import { ident, identList, literal } from './sql.js';
 
@@ -60,7 +61,7 @@ async function loadDelimited(session: Session, input: InputFile, target: string)
     SELECT * FROM read_csv(${literal(input.localPath)},
       header = true, auto_detect = false, columns = {${columns}},
       delim = ${literal(delimiter)}, quote = '"', escape = '"',
-      strict_mode = true, allow_quoted_nulls = false, null_padding = false)`;
+      strict_mode = true, allow_quoted_nulls = false, null_padding = false, max_line_size = ${MAX_LINE_BYTES})`;
   try {
     await session.runRaw(sql);
   } catch (error) {
@@ -69,11 +70,29 @@ async function loadDelimited(session: Session, input: InputFile, target: string)
   return header;
 }
 
+/** Free-text fields can be long; a line beyond this is refused with a clear message rather than read. */
+const MAX_LINE_BYTES = 64 * 1024 * 1024;
+
 /** DuckDB's CSV messages carry the line; keep it, name the file, and say what to do. */
 function csvError(input: InputFile, message: string): ErrataError {
   const line = Number(/CSV Error on Line: (\d+)/.exec(message)?.[1] ?? 0) || undefined;
   const columns = /Expected Number of Columns: (\d+) Found: (\d+)/.exec(message);
   const data = { file: input.name, line };
+  if (/maximum line size/i.test(message)) {
+    return new ErrataError('CSV_MALFORMED', `a line is longer than ${MAX_LINE_BYTES / 1024 / 1024} MiB`, {
+      hint: 'Look for a quote that is never closed before that line, or deliver the long text in another form.',
+      data,
+    });
+  }
+  if (/invalid state/i.test(message)) {
+    const problem = lineEndingProblem(input.localPath);
+    if (problem) {
+      return new ErrataError('CSV_MALFORMED', problem.what, {
+        hint: 'Re-export the file with one kind of line ending throughout (LF or CRLF) and deliver it as a new raw file.',
+        data: { file: input.name, line: problem.line },
+      });
+    }
+  }
   if (columns) {
     return new ErrataError('CSV_MALFORMED', `row has ${columns[2]} fields where the header has ${columns[1]}`, {
       hint: 'Ragged row: look for a missing or extra delimiter, or a field whose quotes are not closed, at that line. Deliver a corrected file; raw files are never edited in place.',

@@ -11,3 +11,15 @@ export function textSql(valueSql: string, sqlType: string): string {
   if (sqlType === 'VARCHAR') return valueSql;
   return `CAST(${valueSql} AS VARCHAR)`;
 }
+
+/**
+ * SQL form of `neutraliseFormula` (formula-guard.ts), for text the CSV writer sends straight from the
+ * engine: a cell a spreadsheet would run as a formula gets one leading apostrophe, and so does a cell
+ * already beginning with one; numbers such as -99 or +1.5e3 are left alone. The two forms must agree
+ * on every value (tests/engine/value-text.test.ts checks them against each other).
+ */
+export function neutraliseFormulaSql(textSql: string): string {
+  return `CASE WHEN substring(${textSql}, 1, 1) IN ('=', '+', '-', '@', chr(9), chr(13), '''')
+      AND NOT regexp_matches(${textSql}, '^[+-]?([0-9]+\\.?[0-9]*|\\.[0-9]+)([eE][+-]?[0-9]+)?$')
+    THEN '''' || ${textSql} ELSE ${textSql} END`;
+}

@@ -165,10 +165,12 @@ export async function listBlobsAt(dir: string, commit: string, prefix: string): 
       entries = (await git.readTree({ ...at(dir), oid: commit, filepath: treePath || undefined })).tree;
     } catch (error) {
       if ((error as { code?: string }).code === 'NotFoundError') return;
+      if ((error as { code?: string }).code === 'ObjectTypeError') throw symlinkAtCommit(treePath, commit);
       throw error;
     }
     for (const entry of entries) {
       const full = treePath ? `${treePath}/${entry.path}` : entry.path;
+      if (entry.mode === SYMLINK_MODE) throw symlinkAtCommit(full, commit);
       if (entry.type === 'tree') await visit(full);
       else if (entry.type === 'blob') out.push({ path: full, oid: entry.oid, type: 'blob' });
     }
@@ -284,9 +286,27 @@ export async function blobIdAt(dir: string, commit: string, filepath: string): P
   const name = filepath.slice(slash + 1);
   try {
     const { tree } = await git.readTree({ ...at(dir), oid: commit, filepath: folder || undefined });
-    return tree.find((entry) => entry.path === name && entry.type === 'blob')?.oid ?? null;
+    const entry = tree.find((e) => e.path === name);
+    if (entry?.mode === SYMLINK_MODE) throw symlinkAtCommit(filepath, commit);
+    return entry?.type === 'blob' ? entry.oid : null;
   } catch (error) {
     if ((error as { code?: string }).code === 'NotFoundError') return null;
+    // A folder on the way that is a symbolic link is a blob, not a tree.
+    if ((error as { code?: string }).code === 'ObjectTypeError') throw symlinkAtCommit(folder, commit);
     throw error;
   }
+}
+
+/** git's file mode for a symbolic link: the blob holds the link's target, not a file's content. */
+const SYMLINK_MODE = '120000';
+
+/**
+ * A committed symbolic link would make errata read whatever it points at on the reviewer's machine,
+ * so project files at a commit must be regular files.
+ */
+function symlinkAtCommit(filepath: string, commit: string): ErrataError {
+  return new ErrataError('PATH_OUTSIDE', `${filepath} is a symbolic link at ${commit.slice(0, 7)}; errata reads only regular files in the repository`, {
+    hint: 'Commit the file itself instead of a link to it.',
+    data: { file: filepath, commit },
+  });
 }

@@ -1,5 +1,7 @@
 import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, realpathSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { ErrataError } from '../errors.js';
+import { writableDir } from '../scratch.js';
 import path from 'node:path';
 import { blobIdAt, listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
 
@@ -28,14 +30,14 @@ export class WorkingTree implements ProjectTree {
   constructor(readonly root: string) {}
 
   async read(filepath: string): Promise<Buffer | null> {
-    const full = path.join(this.root, filepath);
+    const full = this.inside(filepath);
     return existsSync(full) && statSync(full).isFile() ? readFileSync(full) : null;
   }
 
   async list(folder: string): Promise<string[]> {
     const out: string[] = [];
     const visit = (rel: string) => {
-      const full = path.join(this.root, rel);
+      const full = this.inside(rel);
       if (!existsSync(full)) return;
       if (statSync(full).isFile()) {
         out.push(rel);
@@ -51,11 +53,33 @@ export class WorkingTree implements ProjectTree {
   }
 
   async localPath(filepath: string): Promise<string> {
-    return path.join(this.root, filepath);
+    return this.inside(filepath);
   }
 
   async blobId(filepath: string): Promise<string> {
-    return gitBlobIdOfFile(path.join(this.root, filepath));
+    return gitBlobIdOfFile(this.inside(filepath));
+  }
+
+  /**
+   * The file's path on disk, refusing one reached through a symbolic link: a link in a pull request
+   * could point anywhere on the reviewer's machine (a raw file linked to /etc/passwd, a raw/ folder
+   * linked out of the repository), and git at a commit would not follow it either.
+   */
+  private inside(filepath: string): string {
+    const full = path.join(this.root, filepath);
+    let real: string;
+    try {
+      real = realpathSync(full);
+    } catch {
+      return full; // missing: the caller reports that
+    }
+    if (real !== path.join(realpathSync(this.root), filepath).replace(/[\\/]+$/, '')) {
+      throw new ErrataError('PATH_OUTSIDE', `${filepath} is reached through a symbolic link (to ${real}); errata reads only regular files in the repository`, {
+        hint: 'Copy the file into the repository instead of linking it.',
+        data: { file: filepath },
+      });
+    }
+    return full;
   }
 }
 
@@ -77,7 +101,9 @@ export class RevisionTree implements ProjectTree {
 
   async read(filepath: string): Promise<Buffer | null> {
     const blob = await readBlobAt(this.root, this.commit, filepath);
-    return blob ? Buffer.from(blob.content) : null;
+    if (!blob) return null;
+    await blobIdAt(this.root, this.commit, filepath); // refuses a symbolic link
+    return Buffer.from(blob.content);
   }
 
   async list(folder: string): Promise<string[]> {
@@ -91,14 +117,17 @@ export class RevisionTree implements ProjectTree {
 
   async localPath(filepath: string): Promise<string> {
     const oid = await this.blobId(filepath);
-    const target = path.join(this.blobDir, `${oid}${path.extname(filepath)}`);
+    const name = `${oid}${path.extname(filepath)}`;
+    let target = path.join(this.blobDir, name);
     if (!existsSync(target)) {
       const blob = await readBlobAt(this.root, this.commit, filepath);
       if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
-      mkdirSync(this.blobDir, { recursive: true });
-      const temp = `${target}.${process.pid}.tmp`;
-      writeFileSync(temp, blob.content);
-      renameSync(temp, target);
+      target = path.join(writableDir(this.blobDir), name);
+      if (!existsSync(target)) {
+        const temp = `${target}.${process.pid}.tmp`;
+        writeFileSync(temp, blob.content);
+        renameSync(temp, target);
+      }
     }
     return target;
   }

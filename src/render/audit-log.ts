@@ -1,4 +1,5 @@
 import type { AuditEntry } from '../audit/audit-trail.js';
+import { neutraliseFormula } from '../engine/formula-guard.js';
 import { csvField, escapeMarkdownCell, plain, type Paint } from './paint.js';
 
 export type LogFormat = 'text' | 'markdown' | 'csv' | 'json';
@@ -44,10 +45,15 @@ function renderMarkdown(entries: readonly AuditEntry[]): string {
   for (const e of entries) {
     const approval = e.approval ? `${e.approval}${e.approver ? ` (${e.approverName ?? e.approver}, ${e.approvedOn})` : ' (note not found)'}` : 'none';
     lines.push(
-      `| \`${e.file}\` | ${e.date?.slice(0, 10) ?? 'not committed'} | ${escapeMarkdownCell(e.author ?? '')} | ${escapeMarkdownCell(e.reason)} | ${escapeMarkdownCell(approval)} | ${escapeMarkdownCell(perColumn(e))} |`,
+      `| ${codeCell(e.file)} | ${e.date?.slice(0, 10) ?? 'not committed'} | ${escapeMarkdownCell(e.author ?? '')} | ${escapeMarkdownCell(e.reason)} | ${escapeMarkdownCell(approval)} | ${escapeMarkdownCell(perColumn(e))} |`,
     );
   }
   return lines.join('\n') + '\n';
+}
+
+/** A file name as code in a table cell, or escaped text when it holds what would end the code or the cell. */
+function codeCell(text: string): string {
+  return /[`|\r\n\u2028\u2029]/.test(text) ? escapeMarkdownCell(text) : `\`${text}\``;
 }
 
 function renderCsv(entries: readonly AuditEntry[]): string {
@@ -58,7 +64,8 @@ function renderCsv(entries: readonly AuditEntry[]): string {
     const columns = Object.entries(e.cellsByColumn);
     if (e.rowsDeleted) columns.push(['(rows deleted)', e.rowsDeleted]);
     if (columns.length === 0) columns.push(['', 0]);
-    for (const [column, n] of columns) rows.push([...base, column, n].map(csvField).join(','));
+    // Reasons and names come from pull requests; a spreadsheet must show them, not run them.
+    for (const [column, n] of columns) rows.push([...base, column, n].map((v) => csvField(typeof v === 'string' ? neutraliseFormula(v) : v)).join(','));
   }
   return rows.join('\n') + '\n';
 }

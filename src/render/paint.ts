@@ -18,8 +18,9 @@ export function showValue(value: string | null | undefined): string {
   return /^\s|\s$|[\n\t]/.test(value) ? JSON.stringify(value) : value;
 }
 
+/** Text safe inside a Markdown table cell: markup characters escaped, line breaks (any kind) as spaces. */
 export function escapeMarkdownCell(text: string): string {
-  return text.replace(/[\\`*_{}[\]<>|#!~]/g, (ch) => `\\${ch}`).replace(/\r?\n/g, ' ');
+  return text.replace(/[\\`*_{}[\]<>|#!~&]/g, (ch) => `\\${ch}`).replace(/\r\n?|[\n\u2028\u2029]/g, ' ');
 }
 
 /** CSV field in the fixed dialect: quoted when it holds a delimiter, quote or line break. */

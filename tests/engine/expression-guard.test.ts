@@ -71,6 +71,12 @@ describe('expressions that must be refused', () => {
     expect(error.code).toBe('EXPRESSION_INVALID');
   });
 
+  it('refuses aggregates and table functions, telling which by the engine\'s own catalogue', async () => {
+    expect((await refusal('sum(height)')).message).toContain('aggregate');
+    expect((await refusal("string_agg(site, ',')")).message).toContain('aggregate');
+    expect((await refusal('unnest([1, 2])')).message).toContain('not a scalar function');
+  });
+
   it('refuses functions whose value differs from run to run, since a rebuild must give the same bytes', async () => {
     for (const expression of ['random()', 'now()', 'current_date', 'uuid()']) {
       const error = await refusal(expression);
