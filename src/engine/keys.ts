@@ -25,7 +25,7 @@ export async function assertKeyValid(session: Session, table: string, key: reado
   for (const k of key) {
     if (!columns.includes(k)) {
       throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in the file`, {
-        hint: `The file's columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml or deliver a file with that column.`,
+        hint: `The file's columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Name one of them as the key (\`key:\` in errata.yaml, or --key for a file outside a project), or deliver a file with that column.`,
         data: { file, line: 1, column: k },
       });
     }
