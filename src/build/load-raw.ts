@@ -137,6 +137,7 @@ export async function loadRawTable(session: Session, tree: ProjectTree, table: T
     const part = chosen.length === 1 ? target : `${target}__part${index}`;
     const blob = await tree.blobId(file);
     columns = await loadCached(session, tree, input, part, blob, cache);
+    await assertHasRows(session, part, file);
     for (const k of table.key) {
       if (!columns.includes(k)) {
         throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
@@ -151,4 +152,17 @@ export async function loadRawTable(session: Session, tree: ProjectTree, table: T
   if (parts.length > 1) await stackTables(session, parts, target);
   await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0] : table.raw);
   return { inputs, columns };
+}
+
+/**
+ * A delivery with a header and no rows is refused: taken as the latest delivery it would remove every
+ * row from the clean data, which an export cut short must never do silently.
+ */
+async function assertHasRows(session: Session, table: string, file: string): Promise<void> {
+  const { n } = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(table)}`);
+  if (Number(n) > 0) return;
+  throw new ErrataError('INPUT_FORMAT', 'the delivery has no rows, only a header', {
+    hint: 'Ask for the delivery again with its rows; if the table really is empty now, say so in a correction (a delete step) rather than with an empty file.',
+    data: { file, line: 2 },
+  });
 }

@@ -58,8 +58,11 @@ describe('malformed CSV', () => {
     expect(error?.message).toMatch(message);
   });
 
-  it('a header alone is a delivery with no rows', async () => {
-    expect(await load('id,x\n')).toEqual({ error: null, rows: 0 });
+  it('a header alone is refused: an empty latest delivery would silently empty the clean data', async () => {
+    const { error } = await load('id,x\n');
+    expect(error?.code).toBe('INPUT_FORMAT');
+    expect(error?.data).toMatchObject({ file: 'raw/t/delivery.csv', line: 2 });
+    expect(error?.message).toBe('the delivery has no rows, only a header');
   });
 
   it('a field of 3 MB is read whole (longer than the reader\'s 2 MB default line size)', async () => {
