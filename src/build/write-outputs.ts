@@ -3,6 +3,7 @@ import { randomBytes } from 'node:crypto';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { ident, literal } from '../engine/sql.js';
+import { FORMULA_STARTS } from '../engine/formula-guard.js';
 import { neutraliseFormulaSql, textSql } from '../engine/value-text.js';
 import { valueTypeOf } from '../engine/column-types.js';
 import { keyOrder } from './order.js';
@@ -76,7 +77,8 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   // Only DOUBLE needs errata's own rendering (whole values without ".0"); the CSV writer renders every
   // other type exactly as CAST to text would, and much faster. Text goes through the formula guard, so
   // a delivered `=HYPERLINK(...)` opens in a spreadsheet as text (drop one leading ' to recover it).
-  const select = table.columns.map((c) => `${cellSql(`src.${ident(c.name)}`, c.type)} AS ${ident(c.name)}`).join(', ');
+  const guarded = await columnsNeedingGuard(build, table);
+  const select = table.columns.map((c) => `${cellSql(`src.${ident(c.name)}`, c.type, guarded.has(c.name))} AS ${ident(c.name)}`).join(', ');
   await session.run(`COPY (SELECT ${select} FROM ${ident(table.cleanTable)} AS src ORDER BY ${keyOrder(table.config.key, 'src')})
     TO ${literal(dataFile)} (FORMAT csv, HEADER true, DELIMITER ',', QUOTE '"', ESCAPE '"', NULL '', NEW_LINE '\\n')`);
   await session.run(`COPY (SELECT * FROM ${ident(table.lineageTable)}
@@ -95,10 +97,24 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   };
 }
 
-function cellSql(valueSql: string, sqlType: string): string {
+function cellSql(valueSql: string, sqlType: string, guarded: boolean): string {
   if (valueTypeOf(sqlType) === 'number') return textSql(valueSql, sqlType);
-  if (sqlType === 'VARCHAR') return neutraliseFormulaSql(valueSql);
+  if (guarded) return neutraliseFormulaSql(valueSql);
   return valueSql;
+}
+
+/**
+ * The text columns holding at least one value whose first character could start a formula: only those
+ * go through the formula guard, which costs a regular expression per cell. One pass over the table.
+ */
+async function columnsNeedingGuard(build: ProjectBuild, table: TableBuild): Promise<Set<string>> {
+  const text = table.columns.filter((c) => c.type === 'VARCHAR');
+  if (text.length === 0) return new Set();
+  const starts = FORMULA_STARTS.map((ch) => ch.codePointAt(0)).join(', ');
+  const row = await build.session.one<Record<string, boolean | null>>(
+    `SELECT ${text.map((c, i) => `bool_or(ord(${ident(c.name)}) IN (${starts})) AS "g${i}"`).join(', ')} FROM ${ident(table.cleanTable)}`,
+  );
+  return new Set(text.filter((_, i) => row[`g${i}`] === true).map((c) => c.name));
 }
 
 /**

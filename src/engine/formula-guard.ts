@@ -9,12 +9,14 @@
  * Numbers ("-99", "+1.5", "-1e3") are not formulas and are left alone.
  */
 
-const TRIGGER = /^[=+\-@\t\r']/;
+/** The first characters that make a spreadsheet treat a cell as a formula, and the apostrophe itself. */
+export const FORMULA_STARTS: readonly string[] = ['=', '+', '-', '@', '\t', '\r', "'"];
+
 const PLAIN_NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
 /** The text as a spreadsheet will show it without running it, e.g. `=1+1` → `'=1+1`; `-99` stays. */
 export function neutraliseFormula(text: string): string {
-  if (!TRIGGER.test(text) || PLAIN_NUMBER.test(text)) return text;
+  if (!FORMULA_STARTS.includes(text.charAt(0)) || PLAIN_NUMBER.test(text)) return text;
   return `'${text}`;
 }
 

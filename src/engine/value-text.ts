@@ -1,3 +1,4 @@
+import { FORMULA_STARTS } from './formula-guard.js';
 /**
  * SQL giving a value's text, the one way errata writes values everywhere (clean CSV, lineage, diffs).
  * Whole DOUBLE values print without ".0", so a delivered 80 in a column of decimals stays 80; other
@@ -19,7 +20,7 @@ export function textSql(valueSql: string, sqlType: string): string {
  * on every value (tests/engine/value-text.test.ts checks them against each other).
  */
 export function neutraliseFormulaSql(textSql: string): string {
-  return `CASE WHEN substring(${textSql}, 1, 1) IN ('=', '+', '-', '@', chr(9), chr(13), '''')
+  return `CASE WHEN ord(${textSql}) IN (${FORMULA_STARTS.map((ch) => ch.codePointAt(0)).join(', ')})
       AND NOT regexp_matches(${textSql}, '^[+-]?([0-9]+\\.?[0-9]*|\\.[0-9]+)([eE][+-]?[0-9]+)?$')
     THEN '''' || ${textSql} ELSE ${textSql} END`;
 }
