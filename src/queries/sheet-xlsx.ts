@@ -1,4 +1,4 @@
-import ExcelJS from 'exceljs';
+import type ExcelJS from 'exceljs';
 import { ErrataError } from '../errors.js';
 import { ANSWER_COLUMNS, ANSWER_GUIDE, DECISIONS, SHEET_COLUMNS, type SheetColumn, type SheetRow } from './query-sheet.js';
 import { rowsFromTable } from './sheet-rows.js';
@@ -15,7 +15,7 @@ const WIDTHS: Record<SheetColumn, number> = {
  * second. Every value is stored as a text cell, which a spreadsheet never runs as a formula.
  */
 export async function writeSheetXlsx(rows: ReadonlyArray<Record<SheetColumn, string>>): Promise<Buffer> {
-  const workbook = new ExcelJS.Workbook();
+  const workbook = new (await excel()).Workbook();
   // A fixed date keeps two exports of the same queries byte-comparable in what matters to a reader.
   workbook.created = new Date(0);
   workbook.modified = new Date(0);
@@ -47,7 +47,7 @@ export async function writeSheetXlsx(rows: ReadonlyArray<Record<SheetColumn, str
 
 /** Read an answered .xlsx sheet back: the sheet named Queries, or else the first. */
 export async function readSheetXlsx(file: string, content: Buffer): Promise<SheetRow[]> {
-  const workbook = new ExcelJS.Workbook();
+  const workbook = new (await excel()).Workbook();
   try {
     await workbook.xlsx.load(content as unknown as ArrayBuffer);
   } catch (error) {
@@ -66,6 +66,11 @@ export async function readSheetXlsx(file: string, content: Buffer): Promise<Shee
     if (cells.some((c) => c.trim() !== '')) table.push({ row: number, cells });
   });
   return rowsFromTable(`${file} (sheet ${sheet.name})`, table, 'row');
+}
+
+/** ExcelJS, loaded only when a workbook is read or written: it takes a third of a second to load. */
+async function excel(): Promise<typeof ExcelJS> {
+  return (await import('exceljs')).default;
 }
 
 /** A cell's value as the text it stands for: a typed number 71.2 is "71.2", a date is YYYY-MM-DD. */
