@@ -98,6 +98,7 @@ export async function planAnswers(options: ImportAnswersOptions): Promise<Import
     const tables = new Map(build.tables.map((t) => [t.config.name, t]));
     const lookups = new Lookups(build.session);
     const firstRowOf = new Map<string, number>();
+    const changedIn = new Map<string, number>();
     const nextNumber = new Map<string, number>();
     for (const { row, decision } of answered) {
       const c = row.cells;
@@ -178,6 +179,13 @@ export async function planAnswers(options: ImportAnswersOptions): Promise<Import
         reject(row, `${person.id} may not approve changes to ${c.table}.${column.name} (people.yaml)`);
         continue;
       }
+      // Two queries can be about one cell (it breaks two rules); two changes to it would conflict.
+      const cell = `${c.table}\u0000${c.key}\u0000${column.name}`;
+      if (decision !== 'keep' && changedIn.has(cell)) {
+        reject(row, `row ${changedIn.get(cell)} of this sheet already changes this cell; give one answer that changes it`);
+        continue;
+      }
+      if (decision !== 'keep') changedIn.set(cell, row.row);
       const what = decision === 'keep' ? `keep ${show(current)}` : decision === 'missing' ? `${show(current)} becomes missing` : `${show(current)} becomes ${show(to)}`;
       const note = composeNote({
         id,

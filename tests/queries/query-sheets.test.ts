@@ -205,6 +205,17 @@ describe('query sheets: export, answer, import', () => {
     const stale = await errata(root, ['queries', 'import', 'stale.csv', '--format', 'json']);
     expect(stale.code).toBe(1);
     expect(JSON.parse(stale.stdout).rejected[0].reason).toMatch(/^the cell has changed since the sheet was written: it held "3" and now holds "1"/);
+    // One cell asked about under two rules and changed in both answers: the second would conflict.
+    const twice = [
+      `${queryId('visits', '1', 'age', 'minimum')},visits,1,age,34,minimum,error,x,change,35,,researcher,2026-05-01`,
+      `${queryId('visits', '1', 'age', 'maximum')},visits,1,age,34,maximum,error,x,change,36,,researcher,2026-05-01`,
+    ];
+    writeFileSync(path.join(root, 'twice.csv'), `${HEADER}\r\n${twice.join('\r\n')}\r\n`);
+    const both = await errata(root, ['queries', 'import', 'twice.csv', '--dry-run', '--format', 'json']);
+    expect(both.code).toBe(1);
+    const report = JSON.parse(both.stdout) as { used: Array<{ row: number }>; rejected: Array<{ row: number; reason: string }> };
+    expect(report.used.map((u) => u.row)).toEqual([2]);
+    expect(report.rejected).toEqual([{ row: 3, query: queryId('visits', '1', 'age', 'maximum'), reason: 'row 2 of this sheet already changes this cell; give one answer that changes it' }]);
     writeFileSync(path.join(root, 'broken.csv'), 'query,table,key\r\nQ-1,visits,3\r\n');
     const broken = await errata(root, ['queries', 'import', 'broken.csv']);
     expect(broken.code).toBe(2);
