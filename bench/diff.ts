@@ -26,7 +26,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { COLUMNS, KEY, ensurePair, type DiffPair, type Planted } from './diff-data.js';
-import { runMeasured, type Run } from './measure.js';
+import { log, median, positiveWhole, runMeasured, type Run } from './measure.js';
 
 const BENCH_DIR = path.dirname(fileURLToPath(import.meta.url));
 const REPO_ROOT = path.resolve(BENCH_DIR, '..');
@@ -55,11 +55,7 @@ function parseArgs(argv: string[]): Args {
   for (let i = 0; i < argv.length; i += 1) {
     const [flag, inline] = argv[i].split('=', 2);
     const text = () => inline ?? argv[++i] ?? '';
-    const whole = (name: string) => {
-      const n = Number(text().replaceAll('_', '').replaceAll(',', ''));
-      if (!Number.isInteger(n) || n < 1) throw new Error(`${name} must be a positive whole number`);
-      return n;
-    };
+    const whole = (name: string) => positiveWhole(text(), name);
     if (flag === '--rows') args.rows = whole('--rows');
     else if (flag === '--seed') args.seed = whole('--seed');
     else if (flag === '--runs') args.runs = whole('--runs');
@@ -72,13 +68,7 @@ function parseArgs(argv: string[]): Args {
   return args;
 }
 
-const log = (line: string) => process.stderr.write(`${line}\n`);
 const seconds = (ms: number) => ms / 1000;
-const median = (values: number[]) => {
-  const sorted = [...values].sort((a, b) => a - b);
-  const mid = Math.floor(sorted.length / 2);
-  return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
-};
 const count = (n: number) => n.toLocaleString('en-US');
 const memory = (bytes: number) => `${(bytes / 1e6).toFixed(0)} MB (${(bytes / 2 ** 20).toFixed(0)} MiB)`;
 const line = (label: string, value: string) => console.log(`${label.padEnd(40)} ${value}`);

@@ -101,3 +101,35 @@ export function runMeasured(command: string, args: string[], options: { cwd: str
   });
 }
 
+
+/** Progress lines go to stderr, so that stdout holds only the figures. */
+export const log = (line: string) => process.stderr.write(`${line}\n`);
+
+export const median = (values: number[]) => {
+  const sorted = [...values].sort((a, b) => a - b);
+  const mid = Math.floor(sorted.length / 2);
+  return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+};
+
+/** A positive whole number from an option's text; `_` and `,` may group digits (1_000_000). */
+export function positiveWhole(text: string, option: string): number {
+  const n = Number(text.replaceAll('_', '').replaceAll(',', ''));
+  if (!Number.isInteger(n) || n < 1) throw new Error(`${option} must be a positive whole number`);
+  return n;
+}
+
+/**
+ * A benchmark's options when all are whole numbers: `--name N` or `--name=N` for each key of
+ * `defaults` (e.g. { rows: 1_000_000, seed: 20260115, runs: 1 }).
+ */
+export function parseWholeOptions<T extends Record<string, number>>(argv: string[], defaults: T): T {
+  const args: Record<string, number> = { ...defaults };
+  const known = Object.keys(defaults).map((name) => `--${name} N`).join(', ');
+  for (let i = 0; i < argv.length; i += 1) {
+    const [flag, inline] = argv[i].split('=', 2);
+    const name = flag.replace(/^--/, '');
+    if (!flag.startsWith('--') || !(name in defaults)) throw new Error(`unknown option ${argv[i]} (known: ${known})`);
+    args[name] = positiveWhole(inline ?? argv[++i] ?? '', flag);
+  }
+  return args as T;
+}

@@ -13,40 +13,13 @@ import { availableParallelism, loadavg } from 'node:os';
 import path from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { DuckDBInstance } from '@duckdb/node-api';
-import { runMeasured, type Run } from './measure.js';
+import { log, median, parseWholeOptions, runMeasured, type Run } from './measure.js';
 import { COLUMNS, OUT_DIR, REPO_ROOT, TABLE, ensureProject } from './project.js';
 
 const TARGET_RATIO = 3;
 const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
 
-interface Args {
-  rows: number;
-  seed: number;
-  runs: number;
-}
 
-function parseArgs(argv: string[]): Args {
-  const args: Args = { rows: 1_000_000, seed: 20260115, runs: 1 };
-  for (let i = 0; i < argv.length; i += 1) {
-    const [flag, inline] = argv[i].split('=', 2);
-    const value = () => Number(inline ?? argv[++i]);
-    if (flag === '--rows') args.rows = value();
-    else if (flag === '--seed') args.seed = value();
-    else if (flag === '--runs') args.runs = value();
-    else throw new Error(`unknown option ${argv[i]} (known: --rows N, --seed S, --runs R)`);
-  }
-  for (const [name, v] of Object.entries(args)) {
-    if (!Number.isInteger(v) || v < 1) throw new Error(`--${name} must be a positive whole number`);
-  }
-  return args;
-}
-
-const log = (line: string) => process.stderr.write(`${line}\n`);
-const median = (values: number[]) => {
-  const sorted = [...values].sort((a, b) => a - b);
-  const mid = Math.floor(sorted.length / 2);
-  return sorted.length % 2 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
-};
 const quote = (s: string) => `'${s.replaceAll("'", "''")}'`;
 
 /**
@@ -77,7 +50,7 @@ async function runCli(args: string[], cwd: string): Promise<Run> {
 }
 
 async function main(): Promise<void> {
-  const args = parseArgs(process.argv.slice(2));
+  const args = parseWholeOptions(process.argv.slice(2), { rows: 1_000_000, seed: 20260115, runs: 1 });
   if (!existsSync(path.join(REPO_ROOT, 'dist', 'cli', 'main.js'))) throw new Error('dist/ is missing: compile first with `npx tsc -p .`');
   mkdirSync(OUT_DIR, { recursive: true });
   const project = await ensureProject({ rows: args.rows, seed: args.seed, log });

@@ -10,7 +10,7 @@ import { closeSync, existsSync, mkdirSync, openSync, readFileSync, rmSync, write
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { commitAll, hasCommits, initRepo } from '../src/git/repo.js';
-import { splitmix32 } from './splitmix.js';
+import { bell, dayOf, int, isoDay, permutation, pick, round, streamFor, writeText } from './generated-data.js';
 
 export const BENCH_DIR = path.dirname(fileURLToPath(import.meta.url));
 export const REPO_ROOT = path.resolve(BENCH_DIR, '..');
@@ -39,38 +39,6 @@ export interface BenchProject {
   /** True when the project was found on disk and reused. */
   reused: boolean;
 }
-
-// ---------------------------------------------------------------------------------------------
-// Seeded randomness: splitmix32 derives an independent stream per row from (seed, row), so any
-// row can be regenerated on its own (the guarded edits need the exact values of a few rows).
-
-
-function streamFor(seed: number, index: number, salt = 0): () => number {
-  const mix = splitmix32((seed ^ Math.imul(index + 1, 0x85ebca6b) ^ Math.imul(salt + 1, 0xc2b2ae35)) | 0);
-  mix();
-  return mix;
-}
-
-const int = (r: () => number, lo: number, hi: number) => lo + Math.floor(r() * (hi - lo + 1));
-const pick = <T>(r: () => number, items: readonly T[]) => items[Math.floor(r() * items.length)];
-const round = (x: number, digits: number) => {
-  const f = 10 ** digits;
-  return Math.round(x * f) / f;
-};
-/** Roughly normal: the mean of three uniforms, scaled to [lo, hi]. */
-const bell = (r: () => number, lo: number, hi: number) => lo + ((r() + r() + r()) / 3) * (hi - lo);
-
-const DAY_MS = 86_400_000;
-const dayText = new Map<number, string>();
-function isoDay(day: number): string {
-  let text = dayText.get(day);
-  if (!text) {
-    text = new Date(day * DAY_MS).toISOString().slice(0, 10);
-    dayText.set(day, text);
-  }
-  return text;
-}
-const dayOf = (y: number, m: number, d: number) => Date.UTC(y, m - 1, d) / DAY_MS;
 
 const SITES = Array.from({ length: 12 }, (_, i) => `HB${String(i + 1).padStart(2, '0')}`);
 const REGION_OF_SITE = ['north', 'north', 'north', 'east', 'east', 'south', 'south', 'central', 'central', 'west', 'west', 'west'];
@@ -151,20 +119,6 @@ export function generateRow(seed: number, index: number): GeneratedRow {
   const statusNoise = u();
   f[19] = statusNoise < 0.6 ? 'active' : statusNoise < 0.92 ? 'completed' : statusNoise < 0.97 ? 'withdrawn' : 'lost';
   return { fields: f, swapped };
-}
-
-/** A seeded permutation of 0..n-1: deliveries arrive in submission order, not key order. */
-function permutation(seed: number, n: number): Int32Array {
-  const order = new Int32Array(n);
-  for (let i = 0; i < n; i += 1) order[i] = i;
-  const r = streamFor(seed, n, 7);
-  for (let i = n - 1; i > 0; i -= 1) {
-    const j = Math.floor(r() * (i + 1));
-    const t = order[i];
-    order[i] = order[j];
-    order[j] = t;
-  }
-  return order;
 }
 
 function writeCsv(file: string, seed: number, rows: number): void {
@@ -316,12 +270,6 @@ function correctionFile(spec: CorrectionSpec, number: number): string {
 function noteFile(spec: CorrectionSpec, number: number, date: string): string {
   const id = `N-${String(number).padStart(4, '0')}`;
   return `---\nid: ${id}\napprover: mhalvorsen\nrole: principal investigator\ndate: ${date}\napproves: ${JSON.stringify(spec.reason)}\n---\nDecided at the data review meeting; see the minutes of ${date}.\n`;
-}
-
-function writeText(root: string, relative: string, text: string): void {
-  const file = path.join(root, relative);
-  mkdirSync(path.dirname(file), { recursive: true });
-  writeFileSync(file, text);
 }
 
 /**

@@ -29,7 +29,7 @@ import { commitAll } from '../src/git/repo.js';
 import type { ColumnComparison, ColumnProfile, Histogram } from '../src/profile/types.js';
 import { REPORT_CELL_LIMIT, renderReportHtml } from '../src/render/report-html.js';
 import type { ReportData } from '../src/report/types.js';
-import { runMeasured } from './measure.js';
+import { log, positiveWhole, runMeasured } from './measure.js';
 import { OUT_DIR, REPO_ROOT, ensureProject } from './project.js';
 import { splitmix32 } from './splitmix.js';
 
@@ -50,11 +50,7 @@ function parseArgs(argv: string[]): Args {
   for (let i = 0; i < argv.length; i += 1) {
     const [flag, inline] = argv[i].split('=', 2);
     const text = () => inline ?? argv[++i] ?? '';
-    const whole = (name: string) => {
-      const n = Number(text().replaceAll('_', '').replaceAll(',', ''));
-      if (!Number.isInteger(n) || n < 1) throw new Error(`${name} must be a positive whole number`);
-      return n;
-    };
+    const whole = (name: string) => positiveWhole(text(), name);
     if (flag === '--rows') args.rows = whole('--rows');
     else if (flag === '--seed') args.seed = whole('--seed');
     else if (flag === '--skip') for (const part of text().split(',')) args.skip.add(part.trim());
@@ -63,7 +59,6 @@ function parseArgs(argv: string[]): Args {
   return args;
 }
 
-const log = (line: string) => process.stderr.write(`${line}\n`);
 const mb = (bytes: number) => `${(bytes / 1e6).toFixed(2)} MB`;
 
 /** The benchmark project plus two commits: its corrections taken out, then put back. */

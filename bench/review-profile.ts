@@ -14,28 +14,18 @@ import { correctProject, prepareProject, type PreparedProject, type TableBuild }
 import { diffTables } from '../src/diff/table-diff.js';
 import { Session } from '../src/engine/session.js';
 import { ident } from '../src/engine/sql.js';
-import { commitsBetween, listBlobsAt, type CommitInfo } from '../src/git/repo.js';
+import { commitsBetween } from '../src/git/repo.js';
+import { firstCommitOf } from '../src/review/review-range.js';
 import { RevisionTree } from '../src/git/tree.js';
 import { loadNotes } from '../src/project/notes.js';
 import { loadPeople } from '../src/project/people.js';
 import { explainChangedCells } from '../src/review/cell-rules.js';
 import { checkCorrections } from '../src/review/correction-rules.js';
 import { checkFileHistory } from '../src/review/file-rules.js';
+import { log, parseWholeOptions } from './measure.js';
 import { RAW_FILE, ensureReviewProject } from './review-project.js';
 
-function parseArgs(argv: string[]): { rows: number; seed: number } {
-  const args = { rows: 1_000_000, seed: 20260202 };
-  for (let i = 0; i < argv.length; i += 1) {
-    const [flag, inline] = argv[i].split('=', 2);
-    const value = () => Number((inline ?? argv[++i] ?? '').replaceAll('_', ''));
-    if (flag === '--rows') args.rows = value();
-    else if (flag === '--seed') args.seed = value();
-    else throw new Error(`unknown option ${argv[i]} (known: --rows N, --seed S)`);
-  }
-  return args;
-}
 
-const log = (line: string) => process.stderr.write(`${line}\n`);
 
 class Clock {
   readonly phases: Array<{ name: string; ms: number }> = [];
@@ -57,7 +47,7 @@ class Clock {
 }
 
 async function main(): Promise<void> {
-  const args = parseArgs(process.argv.slice(2));
+  const args = parseWholeOptions(process.argv.slice(2), { rows: 1_000_000, seed: 20260202 });
   const project = await ensureReviewProject({ ...args, log });
   const { root, base, head } = project;
   const workDir = path.join(root, '.errata', 'tmp');
@@ -173,18 +163,6 @@ async function main(): Promise<void> {
   console.log(`one tree.blobId(${RAW_FILE}) call, which both commands make once per end inside "load": ${(blobIdMs / 1000).toFixed(2)} s`);
 }
 
-/** As review-range.ts: for each file touched in the range, the first commit in which it appears. */
-async function firstCommitOf(root: string, commits: readonly CommitInfo[]): Promise<Map<string, CommitInfo>> {
-  const first = new Map<string, CommitInfo>();
-  let previous = new Map<string, string>();
-  if (commits[0]?.parents[0]) previous = new Map((await listBlobsAt(root, commits[0].parents[0], 'corrections')).map((e) => [e.path, e.oid]));
-  for (const commit of commits) {
-    const current = new Map((await listBlobsAt(root, commit.oid, 'corrections')).map((e) => [e.path, e.oid]));
-    for (const [file, oid] of current) if (previous.get(file) !== oid && !first.has(file)) first.set(file, commit);
-    previous = current;
-  }
-  return first;
-}
 
 main().catch((error) => {
   console.error(error instanceof Error ? (error.stack ?? error.message) : error);

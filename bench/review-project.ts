@@ -16,7 +16,7 @@ import { closeSync, existsSync, mkdirSync, openSync, readFileSync, rmSync, write
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { commitAll, commitPaths, hasCommits, initRepo, resolveRevision } from '../src/git/repo.js';
-import { splitmix32 } from './splitmix.js';
+import { bell, dayOf, int, isoDay, permutation, pick, round, streamFor, writeText } from './generated-data.js';
 
 export const BENCH_DIR = path.dirname(fileURLToPath(import.meta.url));
 export const REPO_ROOT = path.resolve(BENCH_DIR, '..');
@@ -40,37 +40,6 @@ const DAY_SECONDS = 86_400;
 /** The delivery is committed at noon UTC on 2026-02-02; each later commit is one day after the previous. */
 const BASE_TIME = Date.UTC(2026, 1, 2, 12) / 1000;
 const author = (day: number) => ({ name: 'Bench Steward', email: 'steward@example.org', timestamp: BASE_TIME + day * DAY_SECONDS, timezoneOffset: 0 });
-
-// ---------------------------------------------------------------------------------------------
-// Seeded randomness: an independent splitmix32 stream per (seed, index, salt), so any row can be
-// regenerated on its own when a correction needs its values.
-
-
-export function streamFor(seed: number, index: number, salt = 0): () => number {
-  const mix = splitmix32((seed ^ Math.imul(index + 1, 0x85ebca6b) ^ Math.imul(salt + 1, 0xc2b2ae35)) | 0);
-  mix();
-  return mix;
-}
-
-const int = (r: () => number, lo: number, hi: number) => lo + Math.floor(r() * (hi - lo + 1));
-const pick = <T>(r: () => number, items: readonly T[]) => items[Math.floor(r() * items.length)];
-const round = (x: number, digits: number) => {
-  const f = 10 ** digits;
-  return Math.round(x * f) / f;
-};
-const bell = (r: () => number, lo: number, hi: number) => lo + ((r() + r() + r()) / 3) * (hi - lo);
-
-const DAY_MS = 86_400_000;
-const dayText = new Map<number, string>();
-function isoDay(day: number): string {
-  let text = dayText.get(day);
-  if (!text) {
-    text = new Date(day * DAY_MS).toISOString().slice(0, 10);
-    dayText.set(day, text);
-  }
-  return text;
-}
-const dayOf = (y: number, m: number, d: number) => Date.UTC(y, m - 1, d) / DAY_MS;
 
 const SITES = Array.from({ length: 12 }, (_, i) => `S${String(i + 1).padStart(2, '0')}`);
 const REGION_OF_SITE = ['north', 'north', 'north', 'east', 'east', 'south', 'south', 'central', 'central', 'west', 'west', 'west'];
@@ -112,20 +81,6 @@ export function generateRow(seed: number, index: number): string[] {
   const status = r();
   f[19] = status < 0.6 ? 'active' : status < 0.92 ? 'completed' : status < 0.97 ? 'withdrawn' : 'lost';
   return f;
-}
-
-/** A seeded permutation of 0..n-1: the delivery arrives in submission order, not key order. */
-function permutation(seed: number, n: number): Int32Array {
-  const order = new Int32Array(n);
-  for (let i = 0; i < n; i += 1) order[i] = i;
-  const r = streamFor(seed, n, 7);
-  for (let i = n - 1; i > 0; i -= 1) {
-    const j = Math.floor(r() * (i + 1));
-    const t = order[i];
-    order[i] = order[j];
-    order[j] = t;
-  }
-  return order;
 }
 
 function writeCsv(file: string, seed: number, rows: number): void {
@@ -418,12 +373,6 @@ const PEOPLE = `people:
       - table: ${TABLE}
         columns: all
 `;
-
-function writeText(root: string, relative: string, text: string): void {
-  const file = path.join(root, relative);
-  mkdirSync(path.dirname(file), { recursive: true });
-  writeFileSync(file, text);
-}
 
 export interface ReviewProject {
   root: string;

@@ -19,32 +19,12 @@ import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { availableParallelism, loadavg, totalmem } from 'node:os';
 import path from 'node:path';
 import { OUT_DIR, REPO_ROOT, ensureReviewProject } from './review-project.js';
-import { runMeasured } from './measure.js';
+import { log, parseWholeOptions, runMeasured } from './measure.js';
 
 const TARGET_RATIO = 1.5;
 const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
 
-interface Args {
-  rows: number;
-  seed: number;
-}
 
-function parseArgs(argv: string[]): Args {
-  const args: Args = { rows: 1_000_000, seed: 20260202 };
-  for (let i = 0; i < argv.length; i += 1) {
-    const [flag, inline] = argv[i].split('=', 2);
-    const value = () => Number((inline ?? argv[++i] ?? '').replaceAll('_', '').replaceAll(',', ''));
-    if (flag === '--rows') args.rows = value();
-    else if (flag === '--seed') args.seed = value();
-    else throw new Error(`unknown option ${argv[i]} (known: --rows N, --seed S)`);
-  }
-  for (const [name, v] of Object.entries(args)) {
-    if (!Number.isInteger(v) || v < 1) throw new Error(`--${name} must be a positive whole number`);
-  }
-  return args;
-}
-
-const log = (line: string) => process.stderr.write(`${line}\n`);
 const seconds = (ms: number) => ms / 1000;
 const mib = (bytes: number | null) => (bytes === null ? 'not measured' : `${(bytes / 2 ** 20).toFixed(0)} MiB`);
 
@@ -93,7 +73,7 @@ function parseJson<T>(run: CliRun, what: string): T {
 }
 
 async function main(): Promise<void> {
-  const args = parseArgs(process.argv.slice(2));
+  const args = parseWholeOptions(process.argv.slice(2), { rows: 1_000_000, seed: 20260202 });
   if (!existsSync(path.join(REPO_ROOT, 'dist', 'cli', 'main.js'))) {
     throw new Error('dist/ is missing: compile first with `npx tsc -p .`');
   }

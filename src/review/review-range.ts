@@ -98,7 +98,7 @@ export async function reviewRange(options: ReviewOptions): Promise<ReviewResult>
 }
 
 /** For each file touched in the range, the first commit (oldest) in which it appears with new content. */
-async function firstCommitOf(root: string, commits: readonly CommitInfo[]): Promise<Map<string, CommitInfo>> {
+export async function firstCommitOf(root: string, commits: readonly CommitInfo[]): Promise<Map<string, CommitInfo>> {
   const first = new Map<string, CommitInfo>();
   let previous = new Map<string, string>();
   if (commits[0]?.parents[0]) previous = new Map((await listBlobsAt(root, commits[0].parents[0], 'corrections')).map((e) => [e.path, e.oid]));
