@@ -8,6 +8,7 @@ import { fieldOf, type Codebook } from '../project/codebook.js';
 import { codeVariantFlags } from './code-variants.js';
 import { codebookFlags } from './codebook-limits.js';
 import { EXAMPLE_KEYS, countColumn, createCounts, dropCounts, textShape, type ColumnContext } from './column-context.js';
+import { quantileRanksSql, rankedCounts, type7 } from './counted-quartiles.js';
 import { frequencyTable, isCoded, valueCounts } from './frequencies.js';
 import { binLayout, histogram } from './histogram.js';
 import { columnMoments } from './moments.js';
@@ -122,12 +123,9 @@ async function columnFlags(ctx: ColumnContext, distinct: number, isKey: boolean)
   ];
 }
 
-/**
- * n, distinct, and for numeric columns min, max and the quartiles, from the column's counts. The
- * quartiles are Hyndman–Fan type 7 read off the cumulative counts: with N values in order,
- * q_p = x₍r₎ + (h − r)(x₍r+1₎ − x₍r₎), h = (N − 1)·p, r = ⌊h⌋, x₍i₎ the value of 0-based rank i; the
- * value of rank i is the smallest whose cumulative count exceeds i.
- */
+const QUARTILES = [0.25, 0.5, 0.75];
+
+/** n, distinct, and for numeric columns min, max and the type 7 quartiles, from the column's counts. */
 async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
   const numeric = ctx.type === 'integer' || ctx.type === 'number';
   const kept = `(SELECT ${ctx.v} AS x, ${ctx.count} AS k FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL)`;
@@ -135,22 +133,15 @@ async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
     const row = await ctx.session.one<{ n: bigint | null; d: bigint }>(`SELECT sum(k) AS n, count(*) AS d FROM ${kept}`);
     return { n: Number(row.n ?? 0), distinct: Number(row.d), min: null, max: null, quartiles: null };
   }
-  const rank = (p: number, next: boolean) =>
-    `min(x) FILTER (WHERE upto > ${next ? `least(total - 1, floor((total - 1) * ${p}) + 1)` : `floor((total - 1) * ${p})`})`;
   const row = await ctx.session.one<Record<string, number | bigint | null>>(
     `SELECT min(total) AS n, count(*) AS d, min(x) AS lo, max(x) AS hi,
-       ${[0.25, 0.5, 0.75].map((p, i) => `${rank(p, false)} AS a${i}, ${rank(p, true)} AS b${i}`).join(', ')}
-     FROM (SELECT x, sum(k) OVER (ORDER BY x) AS upto, sum(k) OVER () AS total FROM ${kept})`,
+       ${QUARTILES.map((p, i) => quantileRanksSql(p, `q${i}`)).join(', ')}
+     FROM ${rankedCounts(kept)}`,
   );
   const n = Number(row.n ?? 0);
   if (n === 0) return { n, distinct: 0, min: null, max: null, quartiles: null };
-  const quartile = (p: number, i: number) => {
-    const below = Number(row[`a${i}`]);
-    const above = Number(row[`b${i}`]);
-    const h = (n - 1) * p;
-    return below + (h - Math.floor(h)) * (above - below);
-  };
-  return { n, distinct: Number(row.d), min: Number(row.lo), max: Number(row.hi), quartiles: [0.25, 0.5, 0.75].map(quartile) };
+  const quartiles = QUARTILES.map((p, i) => type7(n, p, Number(row[`q${i}_a`]), Number(row[`q${i}_b`])));
+  return { n, distinct: Number(row.d), min: Number(row.lo), max: Number(row.hi), quartiles };
 }
 
 /**

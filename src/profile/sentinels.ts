@@ -1,5 +1,6 @@
 import { fitsTypeSql } from '../engine/column-types.js';
 import { ident } from '../engine/sql.js';
+import { quantileRanksSql, rankedCounts, type7 } from './counted-quartiles.js';
 import { exampleKeys, placeholders, plural, valuesWhere, type ColumnContext } from './column-context.js';
 import type { Flag } from './types.js';
 
@@ -124,33 +125,21 @@ function numericExpression(ctx: ColumnContext): string | null {
 /**
  * Count, range, quartiles and distinct values of the column without the excluded values, from its
  * distinct values and their counts (one pass to group, then work proportional to the distinct values).
- * Quartiles are type 7, read off the cumulative counts: with N values, q_p = x₍r₎ + (h − r)(x₍r+1₎ − x₍r₎)
- * where h = (N − 1)·p, r = ⌊h⌋, and x₍i₎ is the value of 0-based rank i.
+ * Quartiles are type 7 (counted-quartiles.ts).
  */
 async function restStats(ctx: ColumnContext, x: string, excluded: readonly number[]): Promise<RestStats | null> {
-  const row = await ctx.session.one<{ n: bigint | null; lo: number; hi: number; kinds: bigint; whole: boolean; a1: number; b1: number; a3: number; b3: number }>(
-    `WITH kept AS (
-       SELECT x, sum(k) AS k
+  const kept = `(SELECT x, sum(k) AS k
        FROM (SELECT ${x} AS x, ${ctx.count} AS k FROM ${ident(ctx.counts)})
        WHERE x IS NOT NULL AND x NOT IN (${excluded.join(', ')})
-       GROUP BY x),
-     ranked AS (
-       SELECT x, sum(k) OVER (ORDER BY x) AS upto, sum(k) OVER () AS total FROM kept)
-     SELECT
-       min(total) AS n, min(x) AS lo, max(x) AS hi, count(*) AS kinds, bool_and(x = trunc(x)) AS whole,
-       min(x) FILTER (WHERE upto > floor((total - 1) * 0.25)) AS a1,
-       min(x) FILTER (WHERE upto > least(total - 1, floor((total - 1) * 0.25) + 1)) AS b1,
-       min(x) FILTER (WHERE upto > floor((total - 1) * 0.75)) AS a3,
-       min(x) FILTER (WHERE upto > least(total - 1, floor((total - 1) * 0.75) + 1)) AS b3
-     FROM ranked`,
+       GROUP BY x)`;
+  const row = await ctx.session.one<{ n: bigint | null; lo: number; hi: number; kinds: bigint; whole: boolean; q1_a: number; q1_b: number; q3_a: number; q3_b: number }>(
+    `SELECT min(total) AS n, min(x) AS lo, max(x) AS hi, count(*) AS kinds, bool_and(x = trunc(x)) AS whole,
+       ${quantileRanksSql(0.25, 'q1')}, ${quantileRanksSql(0.75, 'q3')}
+     FROM ${rankedCounts(kept)}`,
   );
   if (row.n === null || Number(row.n) === 0) return null;
   const n = Number(row.n);
-  const quartile = (p: number, below: number, above: number) => {
-    const h = (n - 1) * p;
-    return below + (h - Math.floor(h)) * (above - below);
-  };
-  return { n, lo: row.lo, hi: row.hi, q1: quartile(0.25, row.a1, row.b1), q3: quartile(0.75, row.a3, row.b3), kinds: Number(row.kinds), whole: row.whole };
+  return { n, lo: row.lo, hi: row.hi, q1: type7(n, 0.25, row.q1_a, row.q1_b), q3: type7(n, 0.75, row.q3_a, row.q3_b), kinds: Number(row.kinds), whole: row.whole };
 }
 
 async function distinctValues(ctx: ColumnContext, x: string): Promise<number[]> {
