@@ -3,7 +3,7 @@ import { buildProject, type BuildProgress, type ProjectBuild } from '../build/bu
 import type { CheckProgress } from '../check/check-project.js';
 import type { ProjectTree } from '../git/tree.js';
 import type { Output } from './output.js';
-import { workDir } from './context.js';
+import { projectTree, workDir } from './context.js';
 
 /** Build with progress shown on the terminal. */
 export async function buildWithProgress(tree: ProjectTree, root: string, output: Output, table?: string, options: { keepRaw?: boolean } = {}): Promise<ProjectBuild> {
@@ -19,8 +19,20 @@ export async function buildWithProgress(tree: ProjectTree, root: string, output:
   }
 }
 
+/** What a check of the project (and the query export built on it) is given: where, what, and progress. */
+export async function checkTarget(root: string, output: Output, options: { rev?: string; table?: string; raw?: boolean }) {
+  return {
+    tree: await projectTree(root, options.rev),
+    table: options.table,
+    raw: options.raw,
+    workDir: workDir(root),
+    cache: tableCache(root),
+    onProgress: (event: CheckProgress) => output.progress(checkProgressText(event)),
+  };
+}
+
 /** The progress line of a check (and of the build it starts from). */
-export function checkProgressText(event: CheckProgress): string {
+function checkProgressText(event: CheckProgress): string {
   return event.phase === 'check' ? `checking ${event.table}…` : event.phase === 'load' ? `loading ${event.table}…` : `building ${event.table}…`;
 }
 

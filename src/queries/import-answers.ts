@@ -97,6 +97,11 @@ export async function planAnswers(options: ImportAnswersOptions): Promise<Import
     const notes = await loadNotes(options.tree);
     const tables = new Map(build.tables.map((t) => [t.config.name, t]));
     const lookups = new Lookups(build.session);
+    // Every answered cell's current value, fetched per column in one query rather than row by row.
+    for (const { row } of answered) {
+      const table = tables.get(row.cells.table);
+      if (table) lookups.want(table.cleanTable, table.config, row.cells.column, row.cells.key);
+    }
     const firstRowOf = new Map<string, number>();
     const changedIn = new Map<string, number>();
     const nextNumber = new Map<string, number>();
@@ -112,7 +117,7 @@ export async function planAnswers(options: ImportAnswersOptions): Promise<Import
         reject(row, `table ${c.table} has no column "${c.column}"`);
         continue;
       }
-      const current = await lookups.value(table.cleanTable, table.config, column.name, c.key);
+      const current = await lookups.value(table.cleanTable, column.name, c.key);
       if (current === undefined) {
         reject(row, `no row with key "${c.key}" in table ${c.table}`);
         continue;
@@ -223,6 +228,8 @@ export async function planAnswers(options: ImportAnswersOptions): Promise<Import
 /** Cell values and column types of the clean tables, looked up once each. */
 class Lookups {
   private readonly columnCache = new Map<string, Awaited<ReturnType<typeof columnsByName>>>();
+  /** Per relation and column: the table's key and the keys wanted, then the values found. */
+  private readonly cells = new Map<string, { table: TableConfig; keys: Set<string>; values?: Map<string, string | null> }>();
 
   constructor(private readonly session: Session) {}
 
@@ -232,11 +239,22 @@ class Lookups {
     return columns;
   }
 
-  /** The cell's text, null when missing, undefined when no row has the key. */
-  async value(relation: string, table: TableConfig, column: string, key: string): Promise<string | null | undefined> {
-    const info = (await this.columns(relation)).get(column)!;
-    const values = await cellValues(this.session, relation, table.key, info, [key]);
-    return values.has(key) ? values.get(key)! : undefined;
+  /** Note a cell whose value `value` will be asked for. */
+  want(relation: string, table: TableConfig, column: string, key: string): void {
+    const id = `${relation}\u0000${column}`;
+    const entry = this.cells.get(id) ?? { table, keys: new Set<string>() };
+    entry.keys.add(key);
+    this.cells.set(id, entry);
+  }
+
+  /** A wanted cell's text, null when missing, undefined when no row has the key. */
+  async value(relation: string, column: string, key: string): Promise<string | null | undefined> {
+    const entry = this.cells.get(`${relation}\u0000${column}`)!;
+    if (!entry.values) {
+      const info = (await this.columns(relation)).get(column)!;
+      entry.values = await cellValues(this.session, relation, entry.table.key, info, [...entry.keys]);
+    }
+    return entry.values.has(key) ? entry.values.get(key)! : undefined;
   }
 
   async fits(text: string, type: string): Promise<boolean> {

@@ -2,6 +2,7 @@ import { execFileSync } from 'node:child_process';
 import { readFileSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
+import type { Finding } from '../../src/review/types.js';
 import { commit, errata, makeProject, removeDir, writeFiles } from '../helpers/project.js';
 
 /**
@@ -61,17 +62,6 @@ const BASE = { 'errata.yaml': CONFIG, 'people.yaml': PEOPLE, [RAW_FILE]: RAW };
 /** A base on which the inch correction and its note are already approved and committed. */
 const CORRECTED_BASE = { ...BASE, [NOTE_1_FILE]: NOTE_1, [INCHES_FILE]: inches('N-0001') };
 
-interface Finding {
-  rule: string;
-  severity: 'error' | 'warning';
-  message: string;
-  table?: string;
-  key?: string;
-  column?: string;
-  file?: string;
-  commit?: string;
-  correction?: string;
-}
 
 interface Review {
   code: number;

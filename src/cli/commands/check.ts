@@ -5,8 +5,8 @@ import { checkProject } from '../../check/check-project.js';
 import type { TableCheck } from '../../check/types.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { checkFailed, checkJsonChunks, renderCheckText } from '../../render/check.js';
-import { checkProgressText, tableCache } from '../build-session.js';
-import { projectRoot, projectTree, workDir } from '../context.js';
+import { checkTarget } from '../build-session.js';
+import { projectRoot } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
 
@@ -46,14 +46,7 @@ export function registerCheck(program: Command, setExit: (code: number) => void)
       } else {
         if (options.key) throw usage('--key goes with --files; a project table\'s key comes from errata.yaml');
         const root = await projectRoot();
-        const result = await checkProject({
-          tree: await projectTree(root, options.rev),
-          table,
-          raw: options.raw,
-          workDir: workDir(root),
-          cache: tableCache(root),
-          onProgress: (e) => output.progress(checkProgressText(e)),
-        });
+        const result = await checkProject(await checkTarget(root, output, { rev: options.rev, table, raw: options.raw }));
         output.endProgress();
         for (const s of result.skipped) output.err(output.color.dim(`${s.table}: no codebook (${s.codebook}), not checked`));
         if (result.conflicts.length) output.err(`${renderConflicts(result.conflicts)}\nThe clean data is checked without these edits.`);

@@ -1,4 +1,4 @@
-import { existsSync, mkdirSync, renameSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
@@ -7,6 +7,7 @@ import { WorkingTree } from '../../git/tree.js';
 import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
+import { writeFileAtomically } from '../write-file.js';
 
 interface DraftOptions {
   out?: string;
@@ -44,20 +45,8 @@ export function registerCodebook(program: Command): void {
           data: { file: shown },
         });
       }
-      writeAtomically(target, draft.text);
+      writeFileAtomically(target, draft.text);
       output.out(`wrote ${shown}: a draft from the raw data; review every field before relying on errata check`);
     });
 }
 
-/** Write to a temporary file beside the target, then rename it into place. */
-function writeAtomically(target: string, text: string): void {
-  mkdirSync(path.dirname(target), { recursive: true });
-  const temp = `${target}.${process.pid}.tmp`;
-  try {
-    writeFileSync(temp, text);
-    renameSync(temp, target);
-  } catch (error) {
-    if (existsSync(temp)) unlinkSync(temp);
-    throw new ErrataError('OUTPUT_WRITE', `cannot write ${target}: ${(error as Error).message}`, { hint: 'Check that the folder is writable.', data: { file: target }, cause: error });
-  }
-}

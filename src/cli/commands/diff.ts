@@ -1,4 +1,3 @@
-import { writeFileSync, renameSync } from 'node:fs';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { diffFiles } from '../../diff/file-diff.js';
@@ -14,6 +13,7 @@ import { diffCache, tableCache } from '../build-session.js';
 import { projectRoot, projectTree, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
+import { writeFileAtomically } from '../write-file.js';
 
 type Format = 'text' | 'markdown' | 'json' | 'html';
 
@@ -54,9 +54,7 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
       const limit = options.summary ? 0 : (parseNumber(options.limit, '--limit') ?? DEFAULT_LIMIT[options.format]);
       const emit = (text: string) => {
         if (!options.out) return output.out(text);
-        const temp = `${options.out}.${process.pid}.tmp`;
-        writeFileSync(temp, text);
-        renameSync(temp, options.out);
+        writeFileAtomically(options.out, text);
       };
       if (options.files) {
         if (options.files.length !== 2) throw usage('--files takes two files: OLD NEW');

@@ -1,4 +1,4 @@
-import { existsSync, mkdirSync, renameSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync, unlinkSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
@@ -13,6 +13,7 @@ import { showValue } from '../../render/paint.js';
 import { buildWithProgress } from '../build-session.js';
 import { projectRoot } from '../context.js';
 import { createOutput } from '../output.js';
+import { writeFileAtomically } from '../write-file.js';
 
 interface FixOptions {
   set: string[];
@@ -48,9 +49,7 @@ export function registerFix(program: Command, setExit: (code: number) => void): 
       const { text, correction } = composeSetCorrection(file, { table, assignments, where: options.where, reason: options.reason, approval: options.approval });
       const full = path.join(root, file);
       if (existsSync(full)) throw new ErrataError('CORRECTION_NAME', `${file} already exists`, { hint: 'Try again; another correction took that number.' });
-      mkdirSync(path.dirname(full), { recursive: true });
-      writeFileSync(`${full}.tmp`, text);
-      renameSync(`${full}.tmp`, full);
+      writeFileAtomically(full, text);
       let build;
       try {
         build = await buildWithProgress(tree, root, output, table, { keepRaw: false });

@@ -1,4 +1,4 @@
-import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
@@ -8,6 +8,7 @@ import { composeNote } from '../../project/new-note.js';
 import { loadPeople } from '../../project/people.js';
 import { projectRoot } from '../context.js';
 import { createOutput } from '../output.js';
+import { writeFileAtomically } from '../write-file.js';
 
 interface NoteOptions {
   id: string;
@@ -48,9 +49,7 @@ export function registerNote(program: Command): void {
       const { file, text } = composeNote({ id: options.id, approver: options.approver, role: options.role, date, approves: options.approves, evidence });
       const full = path.join(root, file);
       if (existsSync(full)) throw new ErrataError('NOTE_INVALID', `${file} already exists`, { hint: 'Notes are append-only: choose a new id for a new decision.', data: { file } });
-      mkdirSync(path.dirname(full), { recursive: true });
-      writeFileSync(`${full}.tmp`, text);
-      renameSync(`${full}.tmp`, full);
+      writeFileAtomically(full, text);
       output.out(`wrote ${file}`);
       if (options.commit) {
         const author = await commitAuthor(root);

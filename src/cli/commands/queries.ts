@@ -1,4 +1,4 @@
-import { readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
@@ -11,10 +11,11 @@ import { readSheetXlsx, writeSheetXlsx } from '../../queries/sheet-xlsx.js';
 import { writeNewFiles } from '../../queries/write-new-files.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { renderExport, renderImportJson, renderImportText } from '../../render/queries.js';
-import { checkProgressText, tableCache } from '../build-session.js';
-import { projectRoot, projectTree, workDir } from '../context.js';
+import { checkTarget, tableCache } from '../build-session.js';
+import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
+import { writeFileAtomically } from '../write-file.js';
 
 interface ExportOptions {
   out: string;
@@ -42,21 +43,12 @@ export function registerQueries(program: Command, setExit: (code: number) => voi
       const output = createOutput(program.opts());
       const kind = sheetKind(options.out);
       const root = await projectRoot();
-      const result = await exportQueries({
-        tree: await projectTree(root, options.rev),
-        table,
-        raw: options.raw,
-        workDir: workDir(root),
-        cache: tableCache(root),
-        onProgress: (e) => output.progress(checkProgressText(e)),
-      });
+      const result = await exportQueries(await checkTarget(root, output, { rev: options.rev, table, raw: options.raw }));
       output.endProgress();
       if (result.conflicts.length) output.err(`${renderConflicts(result.conflicts)}\nThe clean data is checked without these edits.`);
       const rows = result.queries.map(sheetCells);
       const content = kind === 'xlsx' ? await writeSheetXlsx(rows) : writeSheetCsv(rows);
-      const temp = `${options.out}.${process.pid}.tmp`;
-      writeFileSync(temp, content);
-      renameSync(temp, options.out);
+      writeFileAtomically(options.out, content);
       output.out(renderExport(result, options.out));
     });
   queries

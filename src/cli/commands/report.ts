@@ -1,12 +1,14 @@
-import { mkdirSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { statSync } from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { gatherReport, type ReportProgress } from '../../report/gather-report.js';
 import { reportRange } from '../../report/report-range.js';
 import { REPORT_CELL_LIMIT, renderReportHtml } from '../../render/report-html.js';
+import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
+import { writeFileAtomically } from '../write-file.js';
 
 interface ReportCommandOptions {
   out: string;
@@ -34,12 +36,12 @@ export function registerReport(program: Command): void {
         range,
         cellLimit,
         workDir: workDir(root),
-        cache: { dir: path.join(root, '.errata', 'cache', 'tables'), write: true },
+        cache: tableCache(root),
         onProgress: (event) => output.progress(progressText(event)),
       }).finally(() => output.endProgress());
       output.progress('writing the report…');
       const file = path.resolve(options.out);
-      writeAtomically(file, renderReportHtml(data, { cellLimit }));
+      writeFileAtomically(file, renderReportHtml(data, { cellLimit }), { code: 'REPORT', hint: 'Choose a writable place with --out FILE.' });
       output.endProgress();
       output.err(`wrote ${path.relative(process.cwd(), file) || file} (${(statSync(file).size / 1e6).toFixed(1)} MB)`);
     });
@@ -54,21 +56,6 @@ function parseLimit(value: string | undefined): number {
   return n;
 }
 
-function writeAtomically(file: string, text: string): void {
-  const temp = `${file}.${process.pid}.tmp`;
-  try {
-    mkdirSync(path.dirname(file), { recursive: true });
-    writeFileSync(temp, text);
-    renameSync(temp, file);
-  } catch (error) {
-    rmSync(temp, { force: true });
-    throw new ErrataError('REPORT', `could not write the report to ${file}: ${(error as Error).message}`, {
-      hint: 'Choose a writable place with --out FILE.',
-      data: { file },
-      cause: error,
-    });
-  }
-}
 
 const PHASE_TEXT: Record<ReportProgress['phase'], string> = {
   profile: 'profiling raw and clean',
