@@ -45,3 +45,8 @@ export function tableCache(root: string): { dir: string; write: true } {
 export function diffCache(root: string): { dir: string } {
   return { dir: path.join(root, '.errata', 'cache', 'diffs') };
 }
+
+/** Finished reviews under .errata/cache/reviews, named by their two commits. */
+export function reviewCache(root: string): { dir: string } {
+  return { dir: path.join(root, '.errata', 'cache', 'reviews') };
+}

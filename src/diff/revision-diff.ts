@@ -7,7 +7,7 @@ import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
 import { diffTables } from './table-diff.js';
 import { emptyLike } from '../engine/load-table.js';
-import { diffCacheId, readCachedDiff, writeCachedDiff, type DiffCache } from './diff-cache.js';
+import { readCachedResult, resultCacheId, writeCachedResult, type ResultCache } from './result-cache.js';
 import type { TableDiff } from './types.js';
 
 export interface RevisionDiffOptions {
@@ -21,7 +21,7 @@ export interface RevisionDiffOptions {
   workDir: string;
   cache?: RawCache;
   /** Finished diffs kept by their inputs, so a repeated diff of the same ends is read back. */
-  diffCache?: DiffCache;
+  diffCache?: ResultCache;
   memoryLimit?: string;
   onProgress?: (event: BuildProgress | { phase: 'diff'; table: string }) => void;
 }
@@ -53,8 +53,8 @@ export async function diffRevisions(options: RevisionDiffOptions): Promise<Revis
       });
     }
     await session.lockDown([options.workDir]);
-    const cacheId = options.diffCache ? diffCacheId({ base: fingerprint(base), head: fingerprint(head), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
-    const cached = options.diffCache ? readCachedDiff<RevisionDiff>(options.diffCache, cacheId) : null;
+    const cacheId = options.diffCache ? resultCacheId({ base: fingerprint(base), head: fingerprint(head), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
+    const cached = options.diffCache ? readCachedResult<RevisionDiff>(options.diffCache, cacheId) : null;
     if (cached) return cached;
     const baseTables = await finish(session, base, options);
     const headTables = await finish(session, head, options);
@@ -82,7 +82,7 @@ export async function diffRevisions(options: RevisionDiffOptions): Promise<Revis
       ...[...headTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'head' as const }))),
     ];
     const result = { diffs, conflicts };
-    if (options.diffCache) writeCachedDiff(options.diffCache, cacheId, result);
+    if (options.diffCache) writeCachedResult(options.diffCache, cacheId, result);
     return result;
   } finally {
     session.close();

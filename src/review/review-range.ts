@@ -12,6 +12,7 @@ import { loadPeople } from '../project/people.js';
 import { explainChangedCells } from './cell-rules.js';
 import { checkCorrections } from './correction-rules.js';
 import { checkFileHistory } from './file-rules.js';
+import { readCachedResult, resultCacheId, writeCachedResult, type ResultCache } from '../diff/result-cache.js';
 import type { Finding, ReviewResult } from './types.js';
 
 export interface ReviewOptions {
@@ -21,6 +22,8 @@ export interface ReviewOptions {
   head: string;
   workDir: string;
   cache?: RawCache;
+  /** Finished reviews kept by their two commit ids, so a repeated review of the same range is read back. */
+  reviewCache?: ResultCache;
   onProgress?: (event: BuildProgress | { phase: 'review'; step: string }) => void;
 }
 
@@ -30,6 +33,16 @@ export interface ReviewOptions {
  * corrections' approvals and authority, then the committed outputs against the rebuild.
  */
 export async function reviewRange(options: ReviewOptions): Promise<ReviewResult> {
+  // Two commits fix everything a review reads, so its answer can be kept under their ids.
+  const cacheId = options.reviewCache ? resultCacheId({ review: [options.base, options.head] }) : '';
+  const cached = options.reviewCache ? readCachedResult<ReviewResult>(options.reviewCache, cacheId) : null;
+  if (cached) return cached;
+  const result = await reviewCommits(options);
+  if (options.reviewCache) writeCachedResult(options.reviewCache, cacheId, result);
+  return result;
+}
+
+async function reviewCommits(options: ReviewOptions): Promise<ReviewResult> {
   const { root, base, head } = options;
   const blobs = path.join(root, '.errata', 'cache', 'blobs');
   const baseTree = await RevisionTree.at(root, base, blobs);

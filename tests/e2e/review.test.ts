@@ -1,5 +1,5 @@
 import { execFileSync } from 'node:child_process';
-import { readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { Finding } from '../../src/review/types.js';
@@ -123,6 +123,23 @@ describe('errata review passes a compliant history', () => {
     expect(r.cellsByCorrection).toBe(3);
     expect(r.cellsByDelivery).toBe(0);
     expect(r.correctionsReviewed).toEqual([INCHES_FILE]);
+  });
+
+  it('a repeated review of the same two commits is read back from .errata/cache/reviews', async () => {
+    const { root, base } = await project(BASE);
+    writeFiles(root, { [NOTE_1_FILE]: NOTE_1, [INCHES_FILE]: inches('N-0001') });
+    const head = await commit(root, 'Convert inch heights');
+    expect((await review(root, `${base}..${head}`)).cellsChanged).toBe(3);
+    const dir = path.join(root, '.errata', 'cache', 'reviews');
+    const entries = readdirSync(dir).filter((f) => f.endsWith('.json'));
+    expect(entries).toHaveLength(1);
+    // Prove the entry is what is read: change the answer it holds and see it come back.
+    const file = path.join(dir, entries[0]);
+    writeFileSync(file, JSON.stringify({ ...JSON.parse(readFileSync(file, 'utf8')), cellsChanged: 99 }));
+    expect((await review(root, `${base}..${head}`)).cellsChanged).toBe(99);
+    // An unreadable entry is computed again.
+    writeFileSync(file, '{');
+    expect((await review(root, `${base}..${head}`)).cellsChanged).toBe(3);
   });
 
   it('a column renamed by one correction and edited by a later one is explained by them', async () => {

@@ -3,7 +3,7 @@ import { ErrataError } from '../../errors.js';
 import { mainBranch, mergeBase, resolveRevision } from '../../git/repo.js';
 import { reviewRange } from '../../review/review-range.js';
 import { renderReview, reviewPassed, type ReviewFormat } from '../../render/review.js';
-import { tableCache } from '../build-session.js';
+import { reviewCache, tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -24,6 +24,7 @@ export function registerReview(program: Command, setExit: (code: number) => void
         head,
         workDir: workDir(root),
         cache: tableCache(root),
+        reviewCache: reviewCache(root),
         onProgress: (e) => output.progress(e.phase === 'review' ? `reviewing ${e.step}…` : e.phase === 'load' ? `loading ${e.table}…` : `building ${e.table}…`),
       });
       output.endProgress();

@@ -3,8 +3,11 @@ import { mkdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node
 import path from 'node:path';
 import { VERSION } from '../version.js';
 
-/** Where finished revision diffs are kept: `.errata/cache/diffs`, one JSON file per set of inputs. */
-export interface DiffCache {
+/**
+ * Where finished answers are kept, one JSON file per question: revision diffs under
+ * `.errata/cache/diffs`, reviews under `.errata/cache/reviews`.
+ */
+export interface ResultCache {
   dir: string;
 }
 
@@ -12,16 +15,17 @@ export interface DiffCache {
 const FORMAT = 1;
 
 /**
- * The name of a diff's cache entry: a hash of everything its answer depends on (each end's
- * configuration and the git blob ids of its deliveries, codebooks and corrections, the options, the
- * tool's version). Content-addressed like the parse cache, so an entry is never stale.
+ * The name of an answer's cache entry: a hash of everything it depends on (for a diff, each end's
+ * configuration and the git blob ids of its deliveries, codebooks and corrections, and the options; for
+ * a review, the two commit ids) and the tool's version. Content-addressed like the parse cache, so an
+ * entry is never stale.
  */
-export function diffCacheId(parts: unknown): string {
+export function resultCacheId(parts: unknown): string {
   return createHash('sha256').update(JSON.stringify({ format: FORMAT, version: VERSION, parts })).digest('hex');
 }
 
 /** A cached answer, or null when there is none or it cannot be read (it is then computed again). */
-export function readCachedDiff<T>(cache: DiffCache, id: string): T | null {
+export function readCachedResult<T>(cache: ResultCache, id: string): T | null {
   try {
     return JSON.parse(readFileSync(path.join(cache.dir, `${id}.json`), 'utf8')) as T;
   } catch {
@@ -30,7 +34,7 @@ export function readCachedDiff<T>(cache: DiffCache, id: string): T | null {
 }
 
 /** Keep an answer: written beside its place and renamed, so a reader never sees half an entry. */
-export function writeCachedDiff(cache: DiffCache, id: string, value: unknown): void {
+export function writeCachedResult(cache: ResultCache, id: string, value: unknown): void {
   const file = path.join(cache.dir, `${id}.json`);
   const temp = `${file}.${process.pid}.tmp`;
   try {
