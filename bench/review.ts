@@ -103,7 +103,12 @@ async function main(): Promise<void> {
   const review1 = await timed('review, run 1 (empty cache)', review);
   rmSync(cache, { recursive: true, force: true });
   const diff1 = await timed('diff, run 1 (empty cache)', diff);
+  // Run 2 compares the commands with parsed deliveries cached; their finished answers (diff and review
+  // results, kept by their inputs) are removed, or each would only read its own answer back.
+  const answers = ['diffs', 'reviews'].map((name) => path.join(cache, 'cache', name));
+  answers.forEach((dir) => rmSync(dir, { recursive: true, force: true }));
   const review2 = await timed('review, run 2 (cache filled)', review);
+  answers.forEach((dir) => rmSync(dir, { recursive: true, force: true }));
   const diff2 = await timed('diff, run 2 (cache filled)', diff);
   const reviews = [review1, review2];
   const diffs = [diff1, diff2];
