@@ -1,6 +1,12 @@
 import { mkdirSync } from 'node:fs';
-import { DuckDBInstance, type DuckDBConnection, type DuckDBValue } from '@duckdb/node-api';
+import { createRequire } from 'node:module';
+import type * as DuckDB from '@duckdb/node-api';
+import type { DuckDBConnection, DuckDBInstance, DuckDBValue } from '@duckdb/node-api';
 import { ErrataError } from '../errors.js';
+
+// Loaded through require: importing this CommonJS package as ES modules makes Node parse every file
+// it re-exports to find their names, which cost every command 0.18 s of start-up (0.30 s against 0.13 s).
+const { DuckDBInstance: Instance } = createRequire(import.meta.url)('@duckdb/node-api') as typeof DuckDB;
 
 export type Row = Record<string, unknown>;
 export type Params = DuckDBValue[] | Record<string, DuckDBValue>;
@@ -63,7 +69,7 @@ export class Session {
       mkdirSync(options.spillDir, { recursive: true });
       config.temp_directory = options.spillDir;
     }
-    const instance = await DuckDBInstance.create(':memory:', config);
+    const instance = await Instance.create(':memory:', config);
     const connection = await instance.connect();
     return new Session(instance, connection, options.timeoutMs ?? statementTimeout());
   }

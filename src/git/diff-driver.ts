@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import path from 'node:path';
-import git from 'isomorphic-git';
+import { git } from './isomorphic-git.js';
 
 export const DRIVER_NAME = 'errata';
 const BEGIN = '# errata: cell-level diffs for data files (`errata git-setup --undo` removes this block)';

@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import path from 'node:path';
-import git from 'isomorphic-git';
+import { git } from './isomorphic-git.js';
 import { ErrataError } from '../errors.js';
 
 export interface Author {
