@@ -43,4 +43,5 @@ export const HELPER = {
   count: '__errata_count',
   value: '__errata_value',
   text: (i: number) => `__errata_text${i}`,
+  repeated: '__errata_repeated',
 } as const;

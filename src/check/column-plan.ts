@@ -1,4 +1,4 @@
-import { castTextSql, fitsTypeSql, valueTypeOf, type ValueType } from '../engine/column-types.js';
+import { castTextSql, fitsTypeSql, fittingValueSql, valueTypeOf, type ValueType } from '../engine/column-types.js';
 import type { ColumnInfo } from '../engine/load-table.js';
 import { ident } from '../engine/sql.js';
 import { textSql } from '../engine/value-text.js';
@@ -78,8 +78,10 @@ export function planColumns(columns: readonly ColumnInfo[], codebook: Codebook, 
     const fits = (v: string) => (native ? 'true' : fitsTypeSql(v, type));
     const typed = (v: string) => (type === 'string' ? v : castTextSql(v, type));
     const typedCell = native ? c : typed(text);
+    // A rule's filter is evaluated with this expression written into it wherever the column appears
+    // (twice in `d IS NULL OR d >= e`), so it casts once rather than testing the fit and casting again.
     const ruleValue = field?.type
-      ? `CASE WHEN ${missing(text)} THEN NULL WHEN ${fits(text)} THEN ${typedCell} END`
+      ? `CASE WHEN ${missing(text)} THEN NULL ELSE ${native ? c : fittingValueSql(text, type)} END`
       : `CASE WHEN ${missing(text)} THEN NULL ELSE ${c} END`;
     return { name: column.name, sqlType: column.type, field, type, text, missing, fits, typed, typedCell, ruleValue };
   });
@@ -99,4 +101,11 @@ export interface CheckContext {
   /** How many key columns the numbered table carries for sorting. */
   sortCount: number;
   plans: readonly ColumnPlan[];
+  /**
+   * The values (one SQL expression per column) that more than one row of the table holds among rows
+   * where `where` is true, with how many rows hold each: a relation with columns HELPER.text(i) and
+   * HELPER.count. Asked twice for the same values and condition (a primary key that is also a unique
+   * field), the rows are grouped once.
+   */
+  repeated(values: readonly string[], where: string): string;
 }

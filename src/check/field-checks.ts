@@ -88,9 +88,9 @@ export async function fieldChecks(context: CheckContext, plan: ColumnPlan): Prom
  * field are the same value). Missing values and misfits take no part, as in the Table Schema.
  */
 function uniqueCheck(context: CheckContext, plan: ColumnPlan): RowCheck {
-  const usable = `NOT ${plan.missing(plan.text)} AND ${plan.fits(plan.text)}`;
-  const repeated = `(SELECT ${plan.typedCell} AS ${ident(HELPER.value)}, count(*) AS ${ident(HELPER.count)}
-      FROM ${context.numbered} WHERE ${usable} GROUP BY ALL HAVING count(*) > 1)`;
+  const fits = plan.fits(plan.text);
+  const usable = fits === 'true' ? `NOT ${plan.missing(plan.text)}` : `NOT ${plan.missing(plan.text)} AND ${fits}`;
+  const repeated = context.repeated([plan.typedCell], usable);
   return {
     kind: 'row',
     rule: 'unique',
@@ -98,7 +98,7 @@ function uniqueCheck(context: CheckContext, plan: ColumnPlan): RowCheck {
     column: plan.name,
     source: `(SELECT numbered.*, repeated.${ident(HELPER.count)}
       FROM (SELECT *, ${plan.typedCell} AS ${ident(HELPER.value)} FROM ${context.numbered} WHERE ${usable}) AS numbered
-      JOIN ${repeated} AS repeated ON numbered.${ident(HELPER.value)} = repeated.${ident(HELPER.value)})`,
+      JOIN ${repeated} AS repeated ON numbered.${ident(HELPER.value)} = repeated.${ident(HELPER.text(0))})`,
     where: 'true',
     value: plan.text,
     count: ident(HELPER.count),

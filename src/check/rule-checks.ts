@@ -49,14 +49,15 @@ export async function ruleCheck(context: CheckContext, rule: CodebookRule): Prom
   };
 }
 
-/** The numbered table as rules see it: each column under its own name, typed, missing as null. */
+/** The numbered table as rules see it: each column the rule reads under its own name, typed, missing as null. */
 function ruleRelation(context: CheckContext, used: readonly ColumnPlan[]): string {
   const select = [
     ident(HELPER.row),
     ident(HELPER.key),
     ...Array.from({ length: context.sortCount }, (_, i) => ident(HELPER.sort(i))),
     ...used.map((plan, i) => `${plan.text} AS ${ident(HELPER.text(i))}`),
-    ...context.plans.map((plan) => `${plan.ruleValue} AS ${ident(plan.name)}`),
+    // Only the columns the rule reads: each typed value costs a pattern match and a cast per row.
+    ...used.map((plan) => `${plan.ruleValue} AS ${ident(plan.name)}`),
   ];
   return `(SELECT ${select.join(', ')} FROM ${context.numbered})`;
 }

@@ -46,6 +46,25 @@ export function castTextSql(valueSql: string, type: ValueType): string {
   return `TRY_CAST(${valueSql} AS ${SQL_TYPE[type]})`;
 }
 
+/**
+ * SQL giving a text as `type` when it fits, else null: one pattern match and one cast, where testing
+ * the fit and then casting would cast twice.
+ */
+export function fittingValueSql(valueSql: string, type: ValueType): string {
+  switch (type) {
+    case 'string':
+      return valueSql;
+    case 'boolean':
+      return `(CASE WHEN ${TEXT_FITS.boolean(valueSql)} THEN lower(${valueSql}) = 'true' END)`;
+    case 'integer':
+      return `(CASE WHEN ${TEXT_FITS.integer(valueSql)} THEN TRY_CAST(${valueSql} AS BIGINT) END)`;
+    case 'number':
+      return `(CASE WHEN regexp_full_match(${valueSql}, ${NUMBER_TEXT}) THEN TRY_CAST(${valueSql} AS DOUBLE) END)`;
+    case 'date':
+      return `(CASE WHEN regexp_full_match(${valueSql}, ${DATE_TEXT}) THEN TRY_CAST(${valueSql} AS DATE) END)`;
+  }
+}
+
 export interface ColumnTyping {
   column: string;
   /** The type the column takes in the build. */

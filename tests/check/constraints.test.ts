@@ -226,6 +226,29 @@ fields:
     ]);
   });
 
+  it('a text primary key that is also unique and patterned: each constraint reports on its own', async () => {
+    // Spec (from memory): primaryKey means present and unique; unique and pattern are the field's own
+    // constraints, so a repeated key breaks both primaryKey and unique, and a missing key breaks
+    // primaryKey and required but not pattern (a missing value satisfies every constraint but required).
+    const d = await checkFixture(
+      csv('pid,x', 'KV-001,a', 'KV-002,b', 'KV-002,c', 'kv-003,d', ',e'),
+      `primaryKey: pid
+fields:
+  - { name: pid, type: string, constraints: { required: true, unique: true, pattern: "KV-[0-9]{3}" } }
+  - { name: x, type: string }
+`,
+    );
+    expect(d.map((x) => [x.key, x.value, x.rule])).toEqual([
+      ['row 5', null, 'primaryKey'],
+      ['KV-002', 'KV-002', 'primaryKey'],
+      ['KV-002', 'KV-002', 'primaryKey'],
+      ['row 5', null, 'required'],
+      ['KV-002', 'KV-002', 'unique'],
+      ['KV-002', 'KV-002', 'unique'],
+      ['kv-003', 'kv-003', 'pattern'],
+    ]);
+  });
+
   it('columns: a described column the file lacks is an error, an undescribed one a warning', async () => {
     const d = await checkFixture(
       csv('id,extra', '1,a'),
