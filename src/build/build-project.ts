@@ -130,7 +130,8 @@ export async function correctProject(
     const keepRaw = options.keepRaw ?? true;
     if (keepRaw) await session.run(`CREATE OR REPLACE TABLE ${ident(clean)} AS SELECT * FROM ${ident(rawName(table, prefix))}`);
     else await session.run(`ALTER TABLE ${ident(rawName(table, prefix))} RENAME TO ${ident(clean)}`);
-    const loadedTypes = await decideColumnTypes(session, clean, table.key, declared);
+    // Loading checked the key (load-raw.ts).
+    const loadedTypes = await decideColumnTypes(session, clean, table.key, declared, { keyChecked: true });
     await applyColumnTypes(session, clean, loadedTypes);
     await createLineageTable(session, lineage);
     const conflicts = await applyCorrections(session, corrections, {

@@ -26,7 +26,7 @@ export async function loadTypedFile(
   const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
   if (key.length) await assertKeyValid(session, target, key, columns, file);
-  const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText });
+  const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText, keyChecked: key.length > 0 });
   if (!options.keepText) await applyColumnTypes(session, target, typings);
   const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
   for (const t of typings) types.set(t.column, t.type);

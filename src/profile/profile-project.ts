@@ -63,7 +63,7 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
         // Typed in a copy when the clean side still needs the delivery as text.
         const typed = options.clean ? `${prepared.prefix}profiled_raw_${table.name}` : rawName(table, prepared.prefix);
         if (options.clean) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(rawName(table, prepared.prefix))}`);
-        await applyColumnTypes(session, typed, await decideColumnTypes(session, typed, table.key, declaredTypes(codebook)));
+        await applyColumnTypes(session, typed, await decideColumnTypes(session, typed, table.key, declaredTypes(codebook), { keyChecked: true }));
         raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook }));
         if (options.clean) await session.run(`DROP TABLE ${ident(typed)}`);
       }
