@@ -1,4 +1,4 @@
-import { fitsTypeSql, type ValueType } from '../engine/column-types.js';
+import { castTextSql, fitsTypeSql, type ValueType } from '../engine/column-types.js';
 import type { Params, Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { CodebookField } from '../project/codebook.js';
@@ -29,6 +29,12 @@ export interface ColumnContext {
   counts: string;
   /** The row-count column of `counts`, quoted. */
   count: string;
+  /**
+   * Set when the table holds the column as text and the profile reads it as `type`: a table of the
+   * column's distinct texts (column TEXT_COLUMN) beside their typed values (under the column's name),
+   * through which rows are found by their text. Null when the table holds the column as profiled.
+   */
+  texts: string | null;
   field: CodebookField | undefined;
   /** Texts the codebook declares missing for this column (the empty text left out: it is loaded as missing). */
   missingCodes: string[];
@@ -56,34 +62,60 @@ export function countColumn(column: string): string {
   return column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding';
 }
 
+/** The name of the text column in a `texts` table: one the column's own name cannot be. */
+export function textColumn(column: string): string {
+  return column === '__errata_text' ? '__errata_text_value' : '__errata_text';
+}
+
 /**
  * Group a column once: its distinct values (null among them) with the rows holding each. A column
  * already known to hold each value once (a checked single-column key) needs no grouping: a view
- * counting every row once stands in.
+ * counting every row once stands in. With `castTo`, the table holds the column as text and the
+ * profile reads it as that type: the texts are grouped and each distinct text cast once (a million
+ * rows of a few hundred distinct texts cost a few hundred casts, not a million), and since two texts
+ * can be one value ("1.5" and "1.50" as numbers) the values are grouped again from the texts.
  */
-export async function createCounts(session: Session, table: string, column: string, unique = false): Promise<string> {
+export async function createCounts(
+  session: Session,
+  table: string,
+  column: string,
+  options: { unique?: boolean; castTo?: Exclude<ValueType, 'string'> } = {},
+): Promise<{ counts: string; texts: string | null }> {
   const v = ident(column);
   const k = ident(countColumn(column));
   await dropCounts(session);
-  if (unique) {
+  if (options.castTo) {
+    const text = ident(textColumn(column));
+    const grouped = options.unique ? `SELECT ${v} AS ${text}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}` : `SELECT ${v} AS ${text}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`;
+    await session.run(`CREATE TEMP TABLE ${ident(TEXTS_TABLE)} AS SELECT ${text}, ${castTextSql(text, options.castTo)} AS ${v}, ${k} FROM (${grouped})`);
+    await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, sum(${k}) AS ${k} FROM ${ident(TEXTS_TABLE)} GROUP BY ALL`);
+    return { counts: COUNTS_TABLE, texts: TEXTS_TABLE };
+  }
+  if (options.unique) {
     await session.run(`CREATE TEMP VIEW ${ident(COUNTS_VIEW)} AS SELECT ${v}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`);
-    return COUNTS_VIEW;
+    return { counts: COUNTS_VIEW, texts: null };
   }
   await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ${v}`);
-  return COUNTS_TABLE;
+  return { counts: COUNTS_TABLE, texts: null };
 }
 
 /** The relations `createCounts` makes, one column at a time. */
 const COUNTS_TABLE = '__errata_profile_counts';
 const COUNTS_VIEW = '__errata_profile_counts_view';
+const TEXTS_TABLE = '__errata_profile_texts';
 
 export async function dropCounts(session: Session): Promise<void> {
   await session.run(`DROP VIEW IF EXISTS ${ident(COUNTS_VIEW)}`);
   await session.run(`DROP TABLE IF EXISTS ${ident(COUNTS_TABLE)}`);
+  await session.run(`DROP TABLE IF EXISTS ${ident(TEXTS_TABLE)}`);
 }
 
-/** A row condition equivalent to a value condition, with the value condition evaluated per distinct value. */
+/**
+ * A row condition equivalent to a value condition, with the value condition evaluated per distinct
+ * value; a column held as text is matched by the texts of the values that meet it.
+ */
 export function rowsWhere(ctx: ColumnContext, valueCondition: string): string {
+  if (ctx.texts) return `${ctx.v} IN (SELECT ${ident(textColumn(ctx.column))} FROM ${ident(ctx.texts)} WHERE ${valueCondition})`;
   return `${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${valueCondition})`;
 }
 

@@ -32,12 +32,13 @@ export async function profileFile(file: string, options: FileProfileOptions = {}
   try {
     const key = options.key ?? [];
     const codebook = options.codebook ?? null;
-    await loadTypedFile(session, file, 'file', { key, declared: declaredTypes(codebook) });
+    // Only the key is cast in the table; the other columns are cast per distinct value as profiled.
+    const textAs = await loadTypedFile(session, file, 'file', { key, declared: declaredTypes(codebook), castKeyOnly: true });
     const name = path.basename(file);
-    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook });
+    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook, textAs });
     const rowColumn = unusedName('row', await columnNames(session, 'file'));
     await session.run(`CREATE TABLE "numbered" AS SELECT row_number() OVER () AS ${ident(rowColumn)}, * FROM "file"`);
-    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook });
+    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook, textAs });
   } finally {
     session.close();
   }

@@ -60,12 +60,19 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
     if (options.raw) {
       for (const { table, codebook } of prepared.tables) {
         options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
-        // Typed in a copy when the clean side still needs the delivery as text.
-        const typed = options.clean ? `${prepared.prefix}profiled_raw_${table.name}` : rawName(table, prepared.prefix);
-        if (options.clean) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(rawName(table, prepared.prefix))}`);
-        await applyColumnTypes(session, typed, await decideColumnTypes(session, typed, table.key, declaredTypes(codebook), { keyChecked: true }));
-        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook }));
-        if (options.clean) await session.run(`DROP TABLE ${ident(typed)}`);
+        const delivered = rawName(table, prepared.prefix);
+        const typings = await decideColumnTypes(session, delivered, table.key, declaredTypes(codebook), { keyChecked: true });
+        // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
+        // the other columns' distinct values. The cast is made in a copy when the clean side still
+        // needs the delivery as text.
+        const keyTypings = typings.filter((t) => table.key.includes(t.column) && t.type !== 'string');
+        const copied = options.clean && keyTypings.length > 0;
+        const typed = copied ? `${prepared.prefix}profiled_raw_${table.name}` : delivered;
+        if (copied) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(delivered)}`);
+        await applyColumnTypes(session, typed, keyTypings);
+        const textAs = new Map(typings.map((t) => [t.column, t.type]));
+        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, textAs }));
+        if (copied) await session.run(`DROP TABLE ${ident(typed)}`);
       }
     }
     const tables: ProjectTableProfile[] = prepared.tables.map(({ table }) => ({ name: table.name, raw: raw.get(table.name) ?? null, clean: null, renamed: {} }));

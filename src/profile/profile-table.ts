@@ -1,4 +1,4 @@
-import { valueTypeOf } from '../engine/column-types.js';
+import { SQL_TYPE, valueTypeOf, type ValueType } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -7,7 +7,7 @@ import { textSql } from '../engine/value-text.js';
 import { fieldOf, type Codebook } from '../project/codebook.js';
 import { codeVariantFlags } from './code-variants.js';
 import { codebookFlags } from './codebook-limits.js';
-import { EXAMPLE_KEYS, countColumn, createCounts, dropCounts, textShape, type ColumnContext } from './column-context.js';
+import { EXAMPLE_KEYS, countColumn, createCounts, dropCounts, textColumn, textShape, type ColumnContext } from './column-context.js';
 import { quantileRanksSql, rankedCounts, type7 } from './counted-quartiles.js';
 import { frequencyTable, isCoded, valueCounts } from './frequencies.js';
 import { binLayout, histogram } from './histogram.js';
@@ -25,6 +25,11 @@ export interface ProfileTableOptions {
   /** A column of data row numbers standing in for a key; it is not profiled. */
   rowColumn?: string;
   codebook: Codebook | null;
+  /**
+   * Columns the table holds as text that are to be profiled as another type (the type decided for
+   * them): each distinct text is cast instead of every row, and rows are found by their text.
+   */
+  textAs?: ReadonlyMap<string, ValueType>;
 }
 
 /** Counts and order statistics of one column, read off its distinct values and their counts. */
@@ -58,23 +63,27 @@ export async function profileTable(session: Session, table: string, options: Pro
     const field = fieldOf(options.codebook, column.name);
     // Loading has checked the key: a single key column holds each value once.
     const isKey = options.key.includes(column.name);
-    const counts = await createCounts(session, table, column.name, isKey && options.key.length === 1);
+    const castTo = column.type === 'VARCHAR' ? options.textAs?.get(column.name) : undefined;
+    const typedAs = castTo && castTo !== 'string' ? castTo : undefined;
+    const sqlType = typedAs ? SQL_TYPE[typedAs] : column.type;
+    const { counts, texts } = await createCounts(session, table, column.name, { unique: isKey && options.key.length === 1, castTo: typedAs });
     const ctx: ColumnContext = {
       session,
       table,
       column: column.name,
-      sqlType: column.type,
-      type: valueTypeOf(column.type),
+      sqlType,
+      type: valueTypeOf(sqlType),
       keySql: keyExpression(keyColumns),
       keyOrder: keyColumns.map(ident).join(', '),
       counts,
       count: ident(countColumn(column.name)),
+      texts,
       field,
       missingCodes: (field?.missingValues ?? options.codebook?.missingValues ?? []).filter((code) => code !== ''),
       v: ident(column.name),
-      text: textSql(ident(column.name), column.type),
+      text: textSql(ident(column.name), sqlType),
       // Identifiers are not measurements: whether a key looks numeric is not a finding.
-      shape: column.type === 'VARCHAR' && !isKey ? await textShape(session, counts, column.name) : null,
+      shape: sqlType === 'VARCHAR' && !isKey ? await textShape(session, counts, column.name) : null,
     };
     profiles.push(await profileColumn(ctx, rows, await gatherBasics(ctx), isKey));
   }
@@ -145,18 +154,30 @@ async function gatherBasics(ctx: ColumnContext): Promise<Basics> {
 }
 
 /**
- * The lowest and highest values with the keys of their rows; ties in key order. The few values at each
- * end come from the counts, so the rows are only filtered for them, not sorted.
+ * The lowest and highest values with the keys of their rows; ties in key order. The values at each
+ * end come from the counts (only as many as hold the first few rows: a coded column's lowest value
+ * alone often does), so the rows are only matched against them, never cast or sorted by value.
  */
 async function extremes(ctx: ColumnContext): Promise<Extremes> {
-  const end = (direction: 'ASC' | 'DESC') =>
-    ctx.session.all<{ key: string; value: string }>(
-      `SELECT ${ctx.keySql} AS key, ${ctx.text} AS value
-       FROM ${ident(ctx.table)}
-       WHERE ${ctx.v} IN (SELECT ${ctx.v} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})
-       ORDER BY ${ctx.v} ${direction}, ${ctx.keyOrder}
+  const [match, value, place] = ['__errata_match', '__errata_value', '__errata_place'].map(ident);
+  const end = (direction: 'ASC' | 'DESC') => {
+    const nearest = `(SELECT ${ctx.v}, ${ctx.count} FROM ${ident(ctx.counts)} WHERE ${ctx.v} IS NOT NULL ORDER BY ${ctx.v} ${direction} LIMIT ${EXAMPLE_KEYS})`;
+    const ends = `(SELECT ${ctx.v} AS ${value}, ${place} FROM (
+        SELECT ${ctx.v}, row_number() OVER (ORDER BY ${ctx.v} ${direction}) AS ${place},
+          coalesce(sum(${ctx.count}) OVER (ORDER BY ${ctx.v} ${direction} ROWS BETWEEN UNBOUNDED PRECEDING AND 1 PRECEDING), 0) AS rows_before
+        FROM ${nearest})
+      WHERE rows_before < ${EXAMPLE_KEYS})`;
+    // A column held as text is matched by the texts of those values.
+    const matches = ctx.texts
+      ? `(SELECT t.${ident(textColumn(ctx.column))} AS ${match}, e.${value}, e.${place} FROM ${ident(ctx.texts)} AS t JOIN ${ends} AS e ON t.${ctx.v} = e.${value})`
+      : `(SELECT ${value} AS ${match}, ${value}, ${place} FROM ${ends})`;
+    return ctx.session.all<{ key: string; value: string }>(
+      `SELECT ${ctx.keySql} AS key, ${textSql(`e.${value}`, ctx.sqlType)} AS value
+       FROM ${ident(ctx.table)} AS cells JOIN ${matches} AS e ON cells.${ctx.v} = e.${match}
+       ORDER BY e.${place}, ${ctx.keyOrder}
        LIMIT ${EXAMPLE_KEYS}`,
     );
+  };
   const pick = (rows: Array<{ key: string; value: string }>) => rows.map((r) => ({ key: r.key, value: r.value }));
   return { lowest: pick(await end('ASC')), highest: pick(await end('DESC')) };
 }
