@@ -65,6 +65,41 @@ export function fittingValueSql(valueSql: string, type: ValueType): string {
   }
 }
 
+/**
+ * A column grouped once: a table of its distinct values (null among them) under the column's own
+ * name, with the rows holding each under `rowsColumn(column)`. Detection and the profile both read it.
+ */
+export type GroupedColumns = ReadonlyMap<string, string>;
+
+/** The name of the row-count column of a grouped column: one the column's own name cannot be. */
+export function rowsColumn(column: string): string {
+  return column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding';
+}
+
+/**
+ * Group each of `columns` into its own temporary table (see GroupedColumns); `unique` names a column
+ * known to hold each value once, which gets a view counting each row once instead. The caller drops
+ * them with `dropGroupedColumns`.
+ */
+export async function groupColumns(session: Session, table: string, columns: readonly string[], unique: string | null): Promise<Map<string, string>> {
+  const grouped = new Map<string, string>();
+  for (const [i, column] of columns.entries()) {
+    const [v, k] = [ident(column), ident(rowsColumn(column))];
+    const name = column === unique ? `${GROUPED}${i}${VIEW}` : `${GROUPED}${i}`;
+    if (column === unique) await session.run(`CREATE OR REPLACE TEMP VIEW ${ident(name)} AS SELECT ${v}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`);
+    else await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(name)} AS SELECT ${v}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`);
+    grouped.set(column, name);
+  }
+  return grouped;
+}
+
+const GROUPED = '__errata_grouped_';
+const VIEW = '_view';
+
+export async function dropGroupedColumns(session: Session, grouped: GroupedColumns): Promise<void> {
+  for (const name of grouped.values()) await session.run(`DROP ${name.endsWith(VIEW) ? 'VIEW' : 'TABLE'} IF EXISTS ${ident(name)}`);
+}
+
 export interface ColumnTyping {
   column: string;
   /** The type the column takes in the build. */
@@ -102,14 +137,15 @@ const MOSTLY = 0.9;
  * some do not, the column stays text and the misfits are reported for a correction to deal with.
  * With `preserveText` (the build's rule, the default) a column becomes a number only if no value would
  * be rewritten; without it (comparison only, as in a diff) any column of numbers is numeric, so 1.000
- * and 1 compare equal. `keyChecked`: the caller has made sure no two rows share the key.
+ * and 1 compare equal. `keyChecked`: the caller has made sure no two rows share the key. `grouped`:
+ * columns already grouped (groupColumns), read instead of grouping them again.
  */
 export async function decideColumnTypes(
   session: Session,
   table: string,
   key: readonly string[],
   declared: ReadonlyMap<string, ValueType>,
-  options: { preserveText?: boolean; only?: ReadonlySet<string>; keyChecked?: boolean } = {},
+  options: { preserveText?: boolean; only?: ReadonlySet<string>; keyChecked?: boolean; grouped?: GroupedColumns } = {},
 ): Promise<ColumnTyping[]> {
   const preserveText = options.preserveText ?? true;
   const columns = await session.all<{ column_name: string; data_type: string }>(
@@ -127,8 +163,12 @@ export async function decideColumnTypes(
       ...DETECTION_ORDER.map((type) => `COALESCE(sum(k) FILTER (WHERE ${TEXT_FITS[type]('v')}), 0) AS "${type}"`),
       `COALESCE(sum(k) FILTER (WHERE ${DETECTS_AS.number('v')}), 0) AS "exactnumber"`,
     ];
+    const grouped = options.grouped?.get(name);
+    const values = grouped
+      ? `SELECT ${ident(name)} AS v, ${ident(rowsColumn(name))} AS k FROM ${ident(grouped)}`
+      : `SELECT ${ident(name)} AS v, ${name === distinctByKey ? '1 AS k' : `count(*) AS k`} FROM ${ident(table)}${name === distinctByKey ? '' : ' GROUP BY ALL'}`;
     return `SELECT ${i} AS i, COALESCE(sum(k) FILTER (WHERE v IS NOT NULL), 0) AS n, ${checks.join(', ')}
-      FROM (SELECT ${ident(name)} AS v, ${name === distinctByKey ? '1 AS k' : `count(*) AS k`} FROM ${ident(table)}${name === distinctByKey ? '' : ' GROUP BY ALL'})`;
+      FROM (${values})`;
   });
   const rows = await session.all<Record<string, number | bigint>>(perColumn.join('\nUNION ALL\n'));
   const counts: Record<string, number> = {};

@@ -1,6 +1,6 @@
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { applyColumnTypes, decideColumnTypes, type ValueType } from './column-types.js';
+import { applyColumnTypes, decideColumnTypes, groupColumns, type GroupedColumns, type ValueType } from './column-types.js';
 import { assertKeyValid } from './keys.js';
 import { formatOf, loadFile, type FileFormat } from './load-table.js';
 import type { Session } from './session.js';
@@ -18,6 +18,19 @@ export async function loadTypedFile(
   target: string,
   options: { key?: readonly string[]; format?: FileFormat; delimiter?: string; keepText?: boolean; castKeyOnly?: boolean; declared?: ReadonlyMap<string, ValueType> } = {},
 ): Promise<Map<string, ValueType>> {
+  return (await loadTypedFileGrouped(session, file, target, options)).types;
+}
+
+/**
+ * loadTypedFile, with `group`: the text columns are grouped first (groupColumns) and the groups kept
+ * and returned for the caller (the profile reads them; it drops them when done).
+ */
+export async function loadTypedFileGrouped(
+  session: Session,
+  file: string,
+  target: string,
+  options: { key?: readonly string[]; format?: FileFormat; delimiter?: string; keepText?: boolean; castKeyOnly?: boolean; declared?: ReadonlyMap<string, ValueType>; group?: boolean } = {},
+): Promise<{ types: Map<string, ValueType>; grouped: GroupedColumns }> {
   const format = formatOf(file, options.format);
   if (!format) {
     throw new ErrataError('INPUT_FORMAT', `cannot tell the format of ${path.basename(file)} from its extension`, {
@@ -28,9 +41,11 @@ export async function loadTypedFile(
   const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
   if (key.length) await assertKeyValid(session, target, key, columns, file);
-  const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText, keyChecked: key.length > 0 });
+  // Every column is text here; a single-column key has been checked, so its rows are counted, not grouped.
+  const grouped = options.group ? await groupColumns(session, target, columns, key.length === 1 ? key[0] : null) : new Map<string, string>();
+  const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText, keyChecked: key.length > 0, grouped });
   if (!options.keepText) await applyColumnTypes(session, target, options.castKeyOnly ? typings.filter((t) => key.includes(t.column)) : typings);
   const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
   for (const t of typings) types.set(t.column, t.type);
-  return types;
+  return { types, grouped };
 }

@@ -1,4 +1,4 @@
-import { castTextSql, fitsTypeSql, type ValueType } from '../engine/column-types.js';
+import { castTextSql, fitsTypeSql, rowsColumn, type ValueType } from '../engine/column-types.js';
 import type { Params, Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { CodebookField } from '../project/codebook.js';
@@ -57,11 +57,6 @@ export const LISTED_VALUES = 10;
  * million rows of a five-code column then runs five times.
  */
 
-/** A name for the count column of a column's distinct values that cannot be the column's own. */
-export function countColumn(column: string): string {
-  return column === 'rows_holding' ? 'rows_holding_value' : 'rows_holding';
-}
-
 /** The name of the text column in a `texts` table: one the column's own name cannot be. */
 export function textColumn(column: string): string {
   return column === '__errata_text' ? '__errata_text_value' : '__errata_text';
@@ -79,14 +74,20 @@ export async function createCounts(
   session: Session,
   table: string,
   column: string,
-  options: { unique?: boolean; castTo?: Exclude<ValueType, 'string'> } = {},
+  options: { unique?: boolean; castTo?: Exclude<ValueType, 'string'>; grouped?: string } = {},
 ): Promise<{ counts: string; texts: string | null }> {
   const v = ident(column);
-  const k = ident(countColumn(column));
+  const k = ident(rowsColumn(column));
   await dropCounts(session);
+  // Already grouped as the table holds it (groupColumns): read, not grouped again.
+  if (options.grouped && !options.castTo) return { counts: options.grouped, texts: null };
   if (options.castTo) {
     const text = ident(textColumn(column));
-    const grouped = options.unique ? `SELECT ${v} AS ${text}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}` : `SELECT ${v} AS ${text}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`;
+    const grouped = options.grouped
+      ? `SELECT ${v} AS ${text}, ${k} FROM ${ident(options.grouped)}`
+      : options.unique
+        ? `SELECT ${v} AS ${text}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`
+        : `SELECT ${v} AS ${text}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`;
     await session.run(`CREATE TEMP TABLE ${ident(TEXTS_TABLE)} AS SELECT ${text}, ${castTextSql(text, options.castTo)} AS ${v}, ${k} FROM (${grouped})`);
     await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, sum(${k}) AS ${k} FROM ${ident(TEXTS_TABLE)} GROUP BY ALL`);
     return { counts: COUNTS_TABLE, texts: TEXTS_TABLE };
@@ -154,7 +155,7 @@ export async function valuesWhere(ctx: ColumnContext, valueCondition: string, pa
 /** Count a text column's numbers and whole numbers, each check once per distinct value. */
 export async function textShape(session: Session, counts: string, column: string): Promise<TextShape> {
   const v = ident(column);
-  const k = ident(countColumn(column));
+  const k = ident(rowsColumn(column));
   const row = await session.one<{ n: bigint | null; numbers: bigint | null; integers: bigint | null }>(
     `SELECT
        sum(${k}) AS n,

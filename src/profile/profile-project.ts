@@ -2,7 +2,8 @@ import path from 'node:path';
 import { correctProject, prepareProject, rawName, type BuildProgress } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
-import { applyColumnTypes, decideColumnTypes } from '../engine/column-types.js';
+import { applyColumnTypes, decideColumnTypes, dropGroupedColumns, groupColumns } from '../engine/column-types.js';
+import { columnsOf } from '../engine/load-table.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { ProjectTree } from '../git/tree.js';
@@ -61,7 +62,9 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
       for (const { table, codebook } of prepared.tables) {
         options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
         const delivered = rawName(table, prepared.prefix);
-        const typings = await decideColumnTypes(session, delivered, table.key, declaredTypes(codebook), { keyChecked: true });
+        // Each column grouped once, for type detection and the profile alike (the key was checked on loading).
+        const grouped = await groupColumns(session, delivered, (await columnsOf(session, delivered)).map((c) => c.name), table.key.length === 1 ? table.key[0] : null);
+        const typings = await decideColumnTypes(session, delivered, table.key, declaredTypes(codebook), { keyChecked: true, grouped });
         // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
         // the other columns' distinct values. The cast is made in a copy when the clean side still
         // needs the delivery as text.
@@ -71,8 +74,9 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
         if (copied) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(delivered)}`);
         await applyColumnTypes(session, typed, keyTypings);
         const textAs = new Map(typings.map((t) => [t.column, t.type]));
-        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, textAs }));
+        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, textAs, grouped }));
         if (copied) await session.run(`DROP TABLE ${ident(typed)}`);
+        await dropGroupedColumns(session, grouped);
       }
     }
     const tables: ProjectTableProfile[] = prepared.tables.map(({ table }) => ({ name: table.name, raw: raw.get(table.name) ?? null, clean: null, renamed: {} }));

@@ -1,4 +1,4 @@
-import { SQL_TYPE, valueTypeOf, type ValueType } from '../engine/column-types.js';
+import { SQL_TYPE, rowsColumn, valueTypeOf, type GroupedColumns, type ValueType } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -7,7 +7,7 @@ import { textSql } from '../engine/value-text.js';
 import { fieldOf, type Codebook } from '../project/codebook.js';
 import { codeVariantFlags } from './code-variants.js';
 import { codebookFlags } from './codebook-limits.js';
-import { EXAMPLE_KEYS, countColumn, createCounts, dropCounts, textColumn, textShape, type ColumnContext } from './column-context.js';
+import { EXAMPLE_KEYS, createCounts, dropCounts, textColumn, textShape, type ColumnContext } from './column-context.js';
 import { quantileRanksSql, rankedCounts, type7 } from './counted-quartiles.js';
 import { frequencyTable, isCoded, valueCounts } from './frequencies.js';
 import { binLayout, histogram } from './histogram.js';
@@ -30,6 +30,8 @@ export interface ProfileTableOptions {
    * them): each distinct text is cast instead of every row, and rows are found by their text.
    */
   textAs?: ReadonlyMap<string, ValueType>;
+  /** Text columns already grouped (groupColumns), read instead of grouped again. */
+  grouped?: GroupedColumns;
 }
 
 /** Counts and order statistics of one column, read off its distinct values and their counts. */
@@ -66,7 +68,9 @@ export async function profileTable(session: Session, table: string, options: Pro
     const castTo = column.type === 'VARCHAR' ? options.textAs?.get(column.name) : undefined;
     const typedAs = castTo && castTo !== 'string' ? castTo : undefined;
     const sqlType = typedAs ? SQL_TYPE[typedAs] : column.type;
-    const { counts, texts } = await createCounts(session, table, column.name, { unique: isKey && options.key.length === 1, castTo: typedAs });
+    // A group holds the column's texts: it serves only while the table still holds the column as text.
+    const grouped = column.type === 'VARCHAR' ? options.grouped?.get(column.name) : undefined;
+    const { counts, texts } = await createCounts(session, table, column.name, { unique: isKey && options.key.length === 1, castTo: typedAs, grouped });
     const ctx: ColumnContext = {
       session,
       table,
@@ -76,7 +80,7 @@ export async function profileTable(session: Session, table: string, options: Pro
       keySql: keyExpression(keyColumns),
       keyOrder: keyColumns.map(ident).join(', '),
       counts,
-      count: ident(countColumn(column.name)),
+      count: ident(rowsColumn(column.name)),
       texts,
       field,
       missingCodes: (field?.missingValues ?? options.codebook?.missingValues ?? []).filter((code) => code !== ''),
@@ -97,8 +101,8 @@ async function profileColumn(ctx: ColumnContext, rows: number, basics: Basics, i
   const numeric = ctx.type === 'integer' || ctx.type === 'number';
   const coded = isCoded(ctx, n, distinct, isKey);
   const counts = await valueCounts(ctx, coded);
-  const moments = numeric && n > 0 ? await columnMoments(ctx.session, ctx.counts, ctx.column, ctx.sqlType, countColumn(ctx.column)) : null;
-  const bins = numeric && !isKey && n > 0 && min !== null && max !== null ? await histogram(ctx.session, ctx.counts, ctx.column, binLayout(min, max, n, ctx.type === 'integer'), countColumn(ctx.column)) : null;
+  const moments = numeric && n > 0 ? await columnMoments(ctx.session, ctx.counts, ctx.column, ctx.sqlType, rowsColumn(ctx.column)) : null;
+  const bins = numeric && !isKey && n > 0 && min !== null && max !== null ? await histogram(ctx.session, ctx.counts, ctx.column, binLayout(min, max, n, ctx.type === 'integer'), rowsColumn(ctx.column)) : null;
   const flags = await columnFlags(ctx, distinct, isKey);
   return {
     name: ctx.column,
