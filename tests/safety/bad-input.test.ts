@@ -72,6 +72,23 @@ describe('malformed CSV', () => {
     expect(Number(n)).toBe(3_000_000);
   });
 
+  it('a NUL byte far into a long file is found, with its record', async () => {
+    // The bytes are scanned in blocks of 4 MiB: the NUL sits about 6.5 MB in (rows of some 26 bytes).
+    const rows = Array.from({ length: 300_000 }, (_, i) => `${i + 1},value-${String(i).padStart(12, '0')}`);
+    rows[250_000] = '250001,bad\u0000value';
+    expect(rows.slice(0, 250_000).join('\n').length).toBeGreaterThan(4 << 20);
+    const { error } = await load(`id,x\n${rows.join('\n')}\n`);
+    expect(error?.code).toBe('CSV_MALFORMED');
+    expect(error?.data).toMatchObject({ file: 'raw/t/delivery.csv', line: 250_002, column: 'x' });
+  });
+
+  it('a NUL written as an escape in JSON lines is refused too (no NUL byte in the file)', async () => {
+    writeFiles(dir, { 'raw/j/delivery.jsonl': '{"id": "1", "x": "a"}\n{"id": "2", "x": "b\\u0000c"}\n' });
+    const error = await loadRawTable(session, new WorkingTree(dir), { ...TABLE, raw: 'raw/j' }, 'raw_j').then(() => null, (e: unknown) => e as ErrataError);
+    expect(error?.code).toBe('CSV_MALFORMED');
+    expect(error?.message).toMatch(/NUL byte in column "x"/);
+  });
+
   it('a quoted field may hold CR LF inside a file of LF lines', async () => {
     expect(await load('id,x\n1,"a\r\nb"\n2,c\n')).toEqual({ error: null, rows: 2 });
   });
