@@ -51,7 +51,7 @@ export interface ProjectCheck {
  *   const result = await checkProject({ tree: new WorkingTree(root), table: 'visits', raw: true, workDir });
  */
 export async function checkProject(options: CheckProjectOptions): Promise<ProjectCheck> {
-  const targets: Array<{ config: TableConfig; codebook: Codebook | null; table: string }> = [];
+  const targets: CheckTarget[] = [];
   let session: Session;
   let conflicts: Conflict[] = [];
   if (options.raw) {
@@ -79,28 +79,50 @@ export async function checkProject(options: CheckProjectOptions): Promise<Projec
     for (const t of build.tables) targets.push({ config: t.config, codebook: t.codebook, table: t.cleanTable });
   }
   try {
-    const tables: TableCheck[] = [];
-    const checked: CheckedTable[] = [];
-    const skipped: ProjectCheck['skipped'] = [];
-    for (const target of targets) {
-      if (!target.codebook) {
-        if (options.table) throw noCodebook(target.config);
-        skipped.push({ table: target.config.name, codebook: target.config.codebook });
-        continue;
-      }
-      options.onProgress?.({ phase: 'check', table: target.config.name });
-      // Loading has already refused rows without a key and keys that repeat.
-      const result = await checkTable(session, { table: target.table, key: target.config.key, codebook: target.codebook, keyChecked: true });
-      const check: TableCheck = { table: target.config.name, source: options.raw ? 'raw' : 'clean', keyColumns: [...target.config.key], ...result };
-      tables.push(check);
-      checked.push({ check, config: target.config, relation: target.table });
-    }
-    if (tables.length === 0) throw noneChecked(skipped);
+    const { result, checked } = await checkLoadedTables(session, targets, { ...options, source: options.raw ? 'raw' : 'clean', conflicts });
     await options.whileOpen?.(session, checked);
-    return { tables, skipped, conflicts };
+    return result;
   } finally {
     session.close();
   }
+}
+
+/** A table loaded (raw) or built (clean) in a session, to be checked against its codebook. */
+export interface CheckTarget {
+  config: TableConfig;
+  codebook: Codebook | null;
+  /** Its table name in the session. */
+  table: string;
+}
+
+/**
+ * Check tables already in a locked-down session (checkProject's second half, for callers that load or
+ * build the project themselves). Tables without a codebook are skipped, or refused when `table` asked
+ * for one by name; INPUT_MISSING when none has one.
+ */
+export async function checkLoadedTables(
+  session: Session,
+  targets: readonly CheckTarget[],
+  options: { source: 'raw' | 'clean'; table?: string; conflicts?: Conflict[]; onProgress?: (event: CheckProgress) => void },
+): Promise<{ result: ProjectCheck; checked: CheckedTable[] }> {
+  const tables: TableCheck[] = [];
+  const checked: CheckedTable[] = [];
+  const skipped: ProjectCheck['skipped'] = [];
+  for (const target of targets) {
+    if (!target.codebook) {
+      if (options.table) throw noCodebook(target.config);
+      skipped.push({ table: target.config.name, codebook: target.config.codebook });
+      continue;
+    }
+    options.onProgress?.({ phase: 'check', table: target.config.name });
+    // Loading has already refused rows without a key and keys that repeat.
+    const result = await checkTable(session, { table: target.table, key: target.config.key, codebook: target.codebook, keyChecked: true });
+    const check: TableCheck = { table: target.config.name, source: options.source, keyColumns: [...target.config.key], ...result };
+    tables.push(check);
+    checked.push({ check, config: target.config, relation: target.table });
+  }
+  if (tables.length === 0) throw noneChecked(skipped);
+  return { result: { tables, skipped, conflicts: options.conflicts ?? [] }, checked };
 }
 
 function noneChecked(skipped: ProjectCheck['skipped']): ErrataError {

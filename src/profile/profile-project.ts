@@ -1,5 +1,5 @@
 import path from 'node:path';
-import { correctProject, prepareProject, rawName, type BuildProgress } from '../build/build-project.js';
+import { correctProject, prepareProject, rawName, type BuildProgress, type PreparedProject, type TableBuild } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
 import { applyColumnTypes, decideColumnTypes, dropGroupedColumns, groupColumns } from '../engine/column-types.js';
@@ -26,6 +26,13 @@ export interface ProjectProfileOptions {
   memoryLimit?: string;
   cache?: RawCache;
   onProgress?: (event: ProfileProgress) => void;
+  /**
+   * For callers that want more from the same load and build (the report): runs with the deliveries
+   * loaded as text (after the session is locked down, before the raw profile) ...
+   */
+  withRaw?: (session: Session, prepared: PreparedProject) => Promise<void>;
+  /** ... and, when `clean` is asked for, with the clean tables built, after the clean profile. */
+  withClean?: (session: Session, prepared: PreparedProject, builds: TableBuild[]) => Promise<void>;
 }
 
 export interface ProjectTableProfile {
@@ -57,6 +64,7 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
   try {
     const prepared = await prepareProject(session, options.tree, { table: options.table, cache: options.cache, onProgress: options.onProgress });
     await session.lockDown([options.workDir]);
+    await options.withRaw?.(session, prepared);
     const raw = new Map<string, TableProfile>();
     if (options.raw) {
       for (const { table, codebook } of prepared.tables) {
@@ -87,6 +95,7 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
       tables[i].clean = await profileTable(session, build.cleanTable, { name: build.config.name, source: 'clean', key: build.config.key, codebook: build.codebook });
       tables[i].renamed = await renamedColumns(session, build.lineageTable);
     }
+    await options.withClean?.(session, prepared, builds);
     return { tables, conflicts: builds.flatMap((b) => b.conflicts) };
   } finally {
     session.close();

@@ -1,9 +1,9 @@
 import path from 'node:path';
 import { auditTrail, type AuditEntry } from '../audit/audit-trail.js';
 import { fileOrigins } from '../audit/history.js';
-import { buildProject } from '../build/build-project.js';
+import { rawName } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
-import { checkProject, type ProjectCheck } from '../check/check-project.js';
+import { checkLoadedTables, type ProjectCheck } from '../check/check-project.js';
 import { diffRevisions } from '../diff/revision-diff.js';
 import { ErrataError } from '../errors.js';
 import { RevisionTree } from '../git/tree.js';
@@ -49,9 +49,31 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
   const baseTree = await RevisionTree.at(root, range.base, blobs);
   const progress = (phase: ReportPhase) => (event: object) => options.onProgress?.({ phase, table: 'table' in event ? String(event.table) : undefined });
 
-  const profile = await profileProject({ tree: headTree, raw: true, clean: true, workDir: options.workDir, cache: options.cache, onProgress: progress('profile') });
-  const rawCheck = await checkOrNone({ tree: headTree, raw: true, workDir: options.workDir, cache: options.cache, onProgress: progress('check') });
-  const cleanCheck = await checkOrNone({ tree: headTree, raw: false, workDir: options.workDir, cache: options.cache, onProgress: progress('check') });
+  // The head is loaded and built once: its checks and audit trail come from the profile's session.
+  let rawCheck: ProjectCheck | null = null;
+  let cleanCheck: ProjectCheck | null = null;
+  let audit: AuditEntry[] = [];
+  const notes = await loadNotes(headTree);
+  const profile = await profileProject({
+    tree: headTree,
+    raw: true,
+    clean: true,
+    workDir: options.workDir,
+    cache: options.cache,
+    onProgress: progress('profile'),
+    withRaw: async (session, prepared) => {
+      const targets = prepared.tables.map((t) => ({ config: t.table, codebook: t.codebook, table: rawName(t.table, prepared.prefix) }));
+      rawCheck = await checkOrNone(() => checkLoadedTables(session, targets, { source: 'raw', onProgress: progress('check') }));
+    },
+    withClean: async (session, prepared, builds) => {
+      const targets = builds.map((b) => ({ config: b.config, codebook: b.codebook, table: b.cleanTable }));
+      const conflicts = builds.flatMap((b) => b.conflicts);
+      cleanCheck = await checkOrNone(() => checkLoadedTables(session, targets, { source: 'clean', conflicts, onProgress: progress('check') }));
+      options.onProgress?.({ phase: 'audit' });
+      const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
+      audit = await auditTrail({ session, config: prepared.config, tables: builds, conflicts }, notes, await fileOrigins(headTree), people);
+    },
+  });
   const tables = profile.tables.map((t) => ({
     name: t.name,
     comparison: compareProfiles(t.raw!, t.clean!, t.renamed),
@@ -67,16 +89,6 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     onProgress: progress('diff'),
   });
   const review = await reviewRange({ root, base: range.base, head: range.head, workDir: options.workDir, cache: options.cache, onProgress: progress('review') });
-
-  const build = await buildProject({ tree: headTree, workDir: options.workDir, cache: options.cache, keepRaw: false, onProgress: progress('audit') });
-  let audit: AuditEntry[];
-  const notes = await loadNotes(headTree);
-  try {
-    const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
-    audit = await auditTrail(build, notes, await fileOrigins(headTree), people);
-  } finally {
-    build.session.close();
-  }
   return {
     range,
     tables,
@@ -88,9 +100,9 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
 }
 
 /** A project without any codebook has nothing to check; the report says so instead of failing. */
-async function checkOrNone(options: Parameters<typeof checkProject>[0]): Promise<ProjectCheck | null> {
+async function checkOrNone(check: () => Promise<{ result: ProjectCheck }>): Promise<ProjectCheck | null> {
   try {
-    return await checkProject(options);
+    return (await check()).result;
   } catch (error) {
     if (error instanceof ErrataError && error.code === 'INPUT_MISSING') return null;
     throw error;

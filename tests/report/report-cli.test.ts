@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { errata, removeDir, type CliResult } from '../helpers/project.js';
+import { commit, errata, removeDir, type CliResult } from '../helpers/project.js';
 import { makeReportProject, rawCsv, ROWS } from './report-project.js';
 
 /** The bars a report draws for one variable, as the page states them in data attributes. */
@@ -100,6 +100,18 @@ describe('errata report', () => {
     const page = readFileSync(path.join(root, 'small.html'), 'utf8');
     expect(page).toContain('4 more are not embedded');
     expect(page).toContain('(the range asked for)');
+  });
+
+  it('reports a project without a codebook, saying there is nothing to count discrepancies against', async () => {
+    removeDir(path.join(root, 'codebook'));
+    await commit(root, 'Remove the codebook');
+    const bare = await errata(root, ['report', '--out', 'bare.html', '--range', 'HEAD~2..HEAD']);
+    expect(bare.code, bare.stderr).toBe(0);
+    const page = readFileSync(path.join(root, 'bare.html'), 'utf8');
+    expect(page).toContain('No codebook, so no discrepancy counts for visits.');
+    // The audit trail is there all the same: the one correction, citing its note.
+    expect(page).toContain('data-show-correction="0001-pounds-and-comments.yaml"');
+    expect(page).toMatch(/<dt>Cells changed in range<\/dt><dd>7<\/dd>/);
   });
 
   it('refuses a range that is not BASE..HEAD and a limit that is not a whole number', async () => {
