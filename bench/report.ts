@@ -66,7 +66,7 @@ async function reportProject(rows: number, seed: number): Promise<string> {
   const source = await ensureProject({ rows, seed, log });
   const root = path.join(OUT_DIR, `report-${rows}-s${seed}`);
   const stamp = `${root}.json`;
-  if (existsSync(stamp) && readFileSync(stamp, 'utf8') === source.root) return root;
+  if (existsSync(stamp) && existsSync(root) && readFileSync(stamp, 'utf8') === source.root) return root;
   rmSync(root, { recursive: true, force: true });
   log(`copying ${path.relative(REPO_ROOT, source.root)} to ${path.relative(REPO_ROOT, root)}`);
   // Built outputs are left behind (they would be committed); the parse cache is content-addressed.

@@ -56,37 +56,57 @@ export async function diffRevisions(options: RevisionDiffOptions): Promise<Revis
     const cacheId = options.diffCache ? resultCacheId({ base: fingerprint(base), head: fingerprint(head), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
     const cached = options.diffCache ? readCachedResult<RevisionDiff>(options.diffCache, cacheId) : null;
     if (cached) return cached;
-    const baseTables = await finish(session, base, options);
-    const headTables = await finish(session, head, options);
-    const names = [...new Set([...headTables.keys(), ...baseTables.keys()])].sort();
-    const diffs: TableDiff[] = [];
-    for (const name of names) {
-      options.onProgress?.({ phase: 'diff', table: name });
-      const before = baseTables.get(name);
-      const after = headTables.get(name);
-      const key = (after ?? before)!.key;
-      const oldTable = before?.table ?? (await emptyLike(session, after!.table, `b_empty_${name}`));
-      const newTable = after?.table ?? (await emptyLike(session, before!.table, `h_empty_${name}`));
-      diffs.push(
-        await diffTables(session, oldTable, newTable, {
-          key,
-          table: name,
-          tolerance: options.tolerance,
-          cellLimit: options.cellLimit,
-          lineage: options.raw ? undefined : after?.lineage,
-        }),
-      );
-    }
-    const conflicts = [
-      ...[...baseTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'base' as const }))),
-      ...[...headTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'head' as const }))),
-    ];
-    const result = { diffs, conflicts };
+    const result = await diffFinished(session, await finish(session, base, options), await finish(session, head, options), options);
     if (options.diffCache) writeCachedResult(options.diffCache, cacheId, result);
     return result;
   } finally {
     session.close();
   }
+}
+
+/**
+ * Diff the clean builds of two ends already in one session (built with the prefixes b_ and h_), for a
+ * caller that builds them anyway (the report, inside its review).
+ */
+export async function diffBuilt(
+  session: Session,
+  baseBuilds: readonly TableBuild[],
+  headBuilds: readonly TableBuild[],
+  options: Pick<RevisionDiffOptions, 'tolerance' | 'cellLimit' | 'onProgress'> = {},
+): Promise<RevisionDiff> {
+  return diffFinished(session, finishedOf(baseBuilds), finishedOf(headBuilds), options);
+}
+
+async function diffFinished(
+  session: Session,
+  baseTables: Map<string, Finished>,
+  headTables: Map<string, Finished>,
+  options: Pick<RevisionDiffOptions, 'tolerance' | 'cellLimit' | 'onProgress' | 'raw'>,
+): Promise<RevisionDiff> {
+  const names = [...new Set([...headTables.keys(), ...baseTables.keys()])].sort();
+  const diffs: TableDiff[] = [];
+  for (const name of names) {
+    options.onProgress?.({ phase: 'diff', table: name });
+    const before = baseTables.get(name);
+    const after = headTables.get(name);
+    const key = (after ?? before)!.key;
+    const oldTable = before?.table ?? (await emptyLike(session, after!.table, `b_empty_${name}`));
+    const newTable = after?.table ?? (await emptyLike(session, before!.table, `h_empty_${name}`));
+    diffs.push(
+      await diffTables(session, oldTable, newTable, {
+        key,
+        table: name,
+        tolerance: options.tolerance,
+        cellLimit: options.cellLimit,
+        lineage: options.raw ? undefined : after?.lineage,
+      }),
+    );
+  }
+  const conflicts = [
+    ...[...baseTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'base' as const }))),
+    ...[...headTables.values()].flatMap((t) => t.conflicts.map((c) => ({ ...c, side: 'head' as const }))),
+  ];
+  return { diffs, conflicts };
 }
 
 /** What an end's build depends on: its configuration and the blob ids of every file it reads. */
@@ -111,7 +131,9 @@ async function finish(session: Session, prepared: PreparedProject | null, option
     }
     return out;
   }
-  const builds: TableBuild[] = await correctProject(session, prepared, { onProgress: options.onProgress, keepRaw: false });
-  for (const b of builds) out.set(b.config.name, { table: b.cleanTable, key: b.config.key, lineage: b.lineageTable, conflicts: b.conflicts });
-  return out;
+  return finishedOf(await correctProject(session, prepared, { onProgress: options.onProgress, keepRaw: false }));
+}
+
+function finishedOf(builds: readonly TableBuild[]): Map<string, Finished> {
+  return new Map(builds.map((b) => [b.config.name, { table: b.cleanTable, key: b.config.key, lineage: b.lineageTable, conflicts: b.conflicts }]));
 }

@@ -4,7 +4,7 @@ import { fileOrigins } from '../audit/history.js';
 import { rawName } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import { checkLoadedTables, type ProjectCheck } from '../check/check-project.js';
-import { diffRevisions } from '../diff/revision-diff.js';
+import { diffBuilt, diffRevisions, type RevisionDiff } from '../diff/revision-diff.js';
 import { ErrataError } from '../errors.js';
 import { RevisionTree } from '../git/tree.js';
 import { compareProfiles } from '../profile/compare-profiles.js';
@@ -80,15 +80,20 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     discrepancies: countByRule(rawCheck, cleanCheck, t.name),
   }));
 
-  const diff = await diffRevisions({
-    base: baseTree,
-    head: headTree,
-    cellLimit: options.cellLimit,
+  // Both ends are built once, for the review, and diffed while they are.
+  let diff: RevisionDiff | null = null;
+  const review = await reviewRange({
+    root,
+    base: range.base,
+    head: range.head,
     workDir: options.workDir,
     cache: options.cache,
-    onProgress: progress('diff'),
+    onProgress: progress('review'),
+    withBuilt: async (session, base, head) => {
+      diff = await diffBuilt(session, base, head, { cellLimit: options.cellLimit, onProgress: progress('diff') });
+    },
   });
-  const review = await reviewRange({ root, base: range.base, head: range.head, workDir: options.workDir, cache: options.cache, onProgress: progress('review') });
+  diff ??= await diffRevisions({ base: baseTree, head: headTree, cellLimit: options.cellLimit, workDir: options.workDir, cache: options.cache, onProgress: progress('diff') });
   return {
     range,
     tables,

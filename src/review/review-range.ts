@@ -25,6 +25,12 @@ export interface ReviewOptions {
   /** Finished reviews kept by their two commit ids, so a repeated review of the same range is read back. */
   reviewCache?: ResultCache;
   onProgress?: (event: BuildProgress | { phase: 'review'; step: string }) => void;
+  /**
+   * For a caller that wants more from the same two builds (the report diffs them): runs once both
+   * ends are built (base tables prefixed b_, head h_), before the review reads them. Not run when
+   * the review is read from its cache.
+   */
+  withBuilt?: (session: Session, base: TableBuild[], head: TableBuild[]) => Promise<void>;
 }
 
 /**
@@ -67,6 +73,7 @@ async function reviewCommits(options: ReviewOptions): Promise<ReviewResult> {
     const rawChanged = inputsOf(basePrepared) !== inputsOf(headPrepared);
     const baseTables = basePrepared ? await correctProject(session, basePrepared, { onProgress: options.onProgress, keepRaw: rawChanged }) : [];
     const headTables = await correctProject(session, headPrepared, { onProgress: options.onProgress, keepRaw: rawChanged });
+    await options.withBuilt?.(session, baseTables, headTables);
 
     const baseBlobs = new Map((basePrepared?.tables ?? []).flatMap((t) => t.sources.map((s) => [s.path, s.blob] as const)));
     const addedBy = await firstCommitOf(root, commits);
