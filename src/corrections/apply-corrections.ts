@@ -35,8 +35,13 @@ export interface ApplyOptions {
 
 export const LINEAGE_COLUMNS = ['key', 'column', 'old', 'new', 'correction', 'step', 'change'] as const;
 
+/**
+ * A temporary table: kept in the main catalogue beside the table being corrected, every capture
+ * appended to it made the next UPDATE of that table slow to finish (up to 0.4 s where the update
+ * itself took 0.03 s; a million-row build's corrections spent 1.4 s in updates instead of 0.7 s).
+ */
 export async function createLineageTable(session: Session, name: string): Promise<void> {
-  await session.run(`CREATE OR REPLACE TABLE ${ident(name)} (
+  await session.run(`CREATE OR REPLACE TEMP TABLE ${ident(name)} (
     "key" VARCHAR, "column" VARCHAR, "old" VARCHAR, "new" VARCHAR,
     "correction" VARCHAR, "step" INTEGER, "change" VARCHAR)`);
 }
