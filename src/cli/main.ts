@@ -7,7 +7,7 @@ import { setStatementTimeout } from '../engine/session.js';
 import { faultPause } from '../fault.js';
 import { VERSION } from '../version.js';
 import { createOutput } from './output.js';
-import { commands } from './commands/index.js';
+import { commandsFor } from './commands/index.js';
 import { acquireLock, describeHolder } from './lock.js';
 
 /** Exit codes everywhere: 0 ok, 1 findings, 2 bad usage or bad input. */
@@ -48,7 +48,7 @@ export async function main(argv: string[]): Promise<number> {
     .configureOutput({ writeErr: (s) => process.stderr.write(s), writeOut: (s) => process.stdout.write(s) })
     .showHelpAfterError('(run errata --help for the list of commands)');
   let exitCode: number = EXIT.ok;
-  for (const register of commands) {
+  for (const register of await commandsFor(argv.slice(2))) {
     register(program, (code) => {
       exitCode = code;
     });
