@@ -10,7 +10,7 @@ import { loadConfig, selectTables, type ProjectConfig, type TableConfig } from '
 import { applyCorrections, createLineageTable, type Conflict } from '../corrections/apply-corrections.js';
 import { loadCorrections } from '../corrections/load-corrections.js';
 import type { Correction } from '../corrections/types.js';
-import { loadRawTable, type RawCache, type RawInput } from './load-raw.js';
+import { loadRawTable, planRawTable, type RawCache, type RawInput } from './load-raw.js';
 
 export type BuildProgress =
   | { phase: 'load'; table: string }
@@ -83,14 +83,16 @@ export async function buildProject(options: BuildOptions): Promise<ProjectBuild>
 }
 
 /**
- * Load phase: read the project files of `tree` and load its raw deliveries into `session` under
- * table names starting with `prefix`, so two revisions can sit side by side in one session.
+ * What a project at `tree` is made of, read without loading any data: its configuration, and for each
+ * table its codebook, corrections, and the raw files (with blob ids) its delivery is loaded from.
+ * Everything a build depends on is named here, so a cached answer can be looked up before the load.
  */
-export async function prepareProject(
-  session: Session,
-  tree: ProjectTree,
-  options: { table?: string; prefix?: string; cache?: RawCache; onProgress?: (event: BuildProgress) => void } = {},
-): Promise<PreparedProject> {
+export interface ProjectPlan {
+  config: ProjectConfig;
+  tables: Array<{ table: TableConfig; codebook: Codebook | null; corrections: Correction[]; inputs: RawInput[]; sources: RawInput[] }>;
+}
+
+export async function planProject(tree: ProjectTree, options: { table?: string } = {}): Promise<ProjectPlan> {
   const config = await loadConfig(tree);
   const selected = selectTables(config, options.table);
   if (selected.length === 0) {
@@ -99,19 +101,46 @@ export async function prepareProject(
       data: { file: 'errata.yaml' },
     });
   }
-  const prefix = options.prefix ?? '';
-  const tables: PreparedProject['tables'] = [];
+  const tables: ProjectPlan['tables'] = [];
   for (const table of selected) {
-    options.onProgress?.({ phase: 'load', table: table.name });
     const codebook = await loadCodebook(tree, table.codebook);
     const corrections = await loadCorrections(tree, table.corrections);
-    const { inputs } = await loadRawTable(session, tree, table, rawName(table, prefix), options.cache);
+    const inputs = await planRawTable(tree, table);
     const sources: RawInput[] = [];
     if (codebook) sources.push({ path: table.codebook, blob: await tree.blobId(table.codebook) });
     for (const c of corrections) sources.push({ path: c.file, blob: await tree.blobId(c.file) });
-    tables.push({ table, codebook, inputs, corrections, sources });
+    tables.push({ table, codebook, corrections, inputs, sources });
   }
-  return { config, prefix, tables };
+  return { config, tables };
+}
+
+/**
+ * Load phase: read the project files of `tree` and load its raw deliveries into `session` under
+ * table names starting with `prefix`, so two revisions can sit side by side in one session.
+ */
+export async function prepareProject(
+  session: Session,
+  tree: ProjectTree,
+  options: { table?: string; prefix?: string; cache?: RawCache; onProgress?: (event: BuildProgress) => void } = {},
+): Promise<PreparedProject> {
+  return loadPlannedProject(session, tree, await planProject(tree, options), options);
+}
+
+/** The load phase of a plan made by `planProject`. */
+export async function loadPlannedProject(
+  session: Session,
+  tree: ProjectTree,
+  plan: ProjectPlan,
+  options: { prefix?: string; cache?: RawCache; onProgress?: (event: BuildProgress) => void } = {},
+): Promise<PreparedProject> {
+  const prefix = options.prefix ?? '';
+  const tables: PreparedProject['tables'] = [];
+  for (const planned of plan.tables) {
+    options.onProgress?.({ phase: 'load', table: planned.table.name });
+    await loadRawTable(session, tree, planned.table, rawName(planned.table, prefix), options.cache, planned.inputs);
+    tables.push(planned);
+  }
+  return { config: plan.config, prefix, tables };
 }
 
 /** Correct phase: types, corrections with lineage, final types. Runs after the session is locked down. */

@@ -136,10 +136,10 @@ function removeAbandonedTemps(dir: string): void {
 }
 
 /**
- * Load a table's raw delivery (the newest file of its folder, or all of them stacked) into `target`,
- * as text, and check its key. Raw files are only ever read.
+ * The files that make a table's raw delivery (the newest file of its folder, or all of them stacked),
+ * with their blob ids; nothing is read yet, so a caller can tell from these whether it needs to.
  */
-export async function loadRawTable(session: Session, tree: ProjectTree, table: TableConfig, target: string, cache?: RawCache): Promise<{ inputs: RawInput[]; columns: string[] }> {
+export async function planRawTable(tree: ProjectTree, table: TableConfig): Promise<RawInput[]> {
   const candidates = (await tree.list(table.raw)).filter((f) => formatOf(f, table.format) !== null);
   if (candidates.length === 0) {
     throw new ErrataError('INPUT_MISSING', `no data file for table "${table.name}" under ${table.raw}`, {
@@ -148,13 +148,30 @@ export async function loadRawTable(session: Session, tree: ProjectTree, table: T
     });
   }
   const chosen = table.deliveries === 'latest' ? [candidates[candidates.length - 1]] : candidates;
+  const planned: RawInput[] = [];
+  for (const file of chosen) planned.push({ path: file, blob: await tree.blobId(file) });
+  return planned;
+}
+
+/**
+ * Load a table's raw delivery (the files `planRawTable` names, planned here unless given) into
+ * `target`, as text, and check its key. Raw files are only ever read.
+ */
+export async function loadRawTable(
+  session: Session,
+  tree: ProjectTree,
+  table: TableConfig,
+  target: string,
+  cache?: RawCache,
+  planned?: readonly RawInput[],
+): Promise<{ inputs: RawInput[]; columns: string[] }> {
+  const chosen = planned ?? (await planRawTable(tree, table));
   const inputs: RawInput[] = [];
   const parts: string[] = [];
   let columns: string[] = [];
-  for (const [index, file] of chosen.entries()) {
+  for (const [index, { path: file, blob }] of chosen.entries()) {
     const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
     const part = chosen.length === 1 ? target : `${target}__part${index}`;
-    const blob = await tree.blobId(file);
     columns = await loadCached(session, tree, input, part, blob, cache);
     await assertHasRows(session, part, file);
     for (const k of table.key) {
@@ -169,7 +186,7 @@ export async function loadRawTable(session: Session, tree: ProjectTree, table: T
     inputs.push({ path: file, blob });
   }
   if (parts.length > 1) await stackTables(session, parts, target);
-  await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0] : table.raw);
+  await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0].path : table.raw);
   return { inputs, columns };
 }
 

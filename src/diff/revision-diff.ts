@@ -2,7 +2,7 @@ import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { Session } from '../engine/session.js';
 import type { ProjectTree } from '../git/tree.js';
-import { correctProject, prepareProject, type BuildProgress, type PreparedProject, type TableBuild } from '../build/build-project.js';
+import { correctProject, loadPlannedProject, planProject, type BuildProgress, type PreparedProject, type ProjectPlan, type TableBuild } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
 import { diffTables } from './table-diff.js';
@@ -37,31 +37,42 @@ export interface RevisionDiff {
  * A table that exists at one end only is diffed against an empty table of the same shape.
  */
 export async function diffRevisions(options: RevisionDiffOptions): Promise<RevisionDiff> {
+  const plan = (tree: ProjectTree) =>
+    planProject(tree, { table: options.table }).catch((error) => {
+      // A revision before the project existed (or before this table) is simply empty.
+      if (error instanceof ErrataError && (error.code === 'PROJECT_NOT_FOUND' || error.code === 'TABLE_UNKNOWN' || error.code === 'INPUT_MISSING')) return null;
+      throw error;
+    });
+  const basePlan = await plan(options.base);
+  const headPlan = await plan(options.head);
+  if (!basePlan && !headPlan) {
+    throw new ErrataError('TABLE_UNKNOWN', options.table ? `no table "${options.table}" at either end` : 'no errata project at either end', {
+      hint: 'Check the revisions and the table name (errata.yaml lists the tables).',
+    });
+  }
+  // The plans name every input by blob id, so a cached answer is found before anything is loaded.
+  const cacheId = options.diffCache ? resultCacheId({ base: fingerprint(basePlan), head: fingerprint(headPlan), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
+  const cached = options.diffCache ? readCachedResult<RevisionDiff>(options.diffCache, cacheId) : null;
+  if (cached) return cached;
   const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit ?? '2GB' });
   try {
-    const prepare = (tree: ProjectTree, prefix: string) =>
-      prepareProject(session, tree, { table: options.table, prefix, cache: options.cache, onProgress: options.onProgress }).catch((error) => {
-        // A revision before the project existed (or before this table) is simply empty.
-        if (error instanceof ErrataError && (error.code === 'PROJECT_NOT_FOUND' || error.code === 'TABLE_UNKNOWN' || error.code === 'INPUT_MISSING')) return null;
-        throw error;
-      });
-    const base = await prepare(options.base, 'b_');
-    const head = await prepare(options.head, 'h_');
-    if (!base && !head) {
-      throw new ErrataError('TABLE_UNKNOWN', options.table ? `no table "${options.table}" at either end` : 'no errata project at either end', {
-        hint: 'Check the revisions and the table name (errata.yaml lists the tables).',
-      });
-    }
+    const load = (tree: ProjectTree, planned: ProjectPlan | null, prefix: string) =>
+      planned ? loadPlannedProject(session, tree, planned, { prefix, cache: options.cache, onProgress: options.onProgress }) : null;
+    const base = await load(options.base, basePlan, 'b_');
+    const head = await load(options.head, headPlan, 'h_');
     await session.lockDown([options.workDir]);
-    const cacheId = options.diffCache ? resultCacheId({ base: fingerprint(base), head: fingerprint(head), table: options.table ?? null, raw: Boolean(options.raw), tolerance: options.tolerance ?? null, cellLimit: options.cellLimit ?? null }) : '';
-    const cached = options.diffCache ? readCachedResult<RevisionDiff>(options.diffCache, cacheId) : null;
-    if (cached) return cached;
     const result = await diffFinished(session, await finish(session, base, options), await finish(session, head, options), options);
     if (options.diffCache) writeCachedResult(options.diffCache, cacheId, result);
     return result;
   } finally {
     session.close();
   }
+}
+
+/** What an end's build depends on: its configuration and the blob ids of every file it reads. */
+function fingerprint(plan: ProjectPlan | null): unknown {
+  if (!plan) return null;
+  return plan.tables.map((t) => ({ table: { ...t.table, line: undefined }, inputs: t.inputs, sources: t.sources }));
 }
 
 /**
@@ -109,11 +120,6 @@ async function diffFinished(
   return { diffs, conflicts };
 }
 
-/** What an end's build depends on: its configuration and the blob ids of every file it reads. */
-function fingerprint(prepared: PreparedProject | null): unknown {
-  if (!prepared) return null;
-  return prepared.tables.map((t) => ({ table: { ...t.table, line: undefined }, inputs: t.inputs, sources: t.sources }));
-}
 
 interface Finished {
   table: string;

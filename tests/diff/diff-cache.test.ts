@@ -1,7 +1,9 @@
 import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { commit, errata, makeProject, removeDir, writeFiles } from '../helpers/project.js';
+import { diffRevisions } from '../../src/diff/revision-diff.js';
+import { RevisionTree } from '../../src/git/tree.js';
+import { commit, errata, makeProject, removeDir, tempDir, writeFiles } from '../helpers/project.js';
 
 /**
  * A repeated revision diff is read back from .errata/cache/diffs instead of being built again. Two
@@ -42,5 +44,26 @@ describe('the diff cache', () => {
     // An unreadable entry is computed again, never trusted.
     writeFileSync(file, '{"diffs": [');
     expect((await summary('HEAD~1..HEAD')).rows.added).toBe(1);
+  });
+
+  it('finds a cached answer before loading either delivery', async () => {
+    const blobs = path.join(root, '.errata', 'cache', 'blobs');
+    const cacheDir = tempDir('errata-diff-cache-');
+    try {
+      const ends = { base: await RevisionTree.at(root, 'HEAD~1', blobs), head: await RevisionTree.at(root, 'HEAD', blobs) };
+      const run = async () => {
+        const phases: string[] = [];
+        const result = await diffRevisions({ ...ends, workDir: path.join(cacheDir, 'work'), diffCache: { dir: path.join(cacheDir, 'diffs') }, onProgress: (e) => phases.push(e.phase) });
+        return { result, phases };
+      };
+      const first = await run();
+      expect(first.phases.filter((p) => p === 'load')).toHaveLength(2);
+      expect(first.result.diffs[0].summary.rows.added).toBe(1);
+      const second = await run();
+      expect(second.phases).toEqual([]);
+      expect(second.result).toEqual(first.result);
+    } finally {
+      removeDir(cacheDir);
+    }
   });
 });
