@@ -2,7 +2,7 @@ import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { applyColumnTypes, decideColumnTypes, groupColumns, type GroupedColumns, type ValueType } from './column-types.js';
 import { assertKeyValid } from './keys.js';
-import { formatOf, loadFile, type FileFormat } from './load-table.js';
+import { columnsOf, formatOf, loadFile, type FileFormat } from './load-table.js';
 import type { Session } from './session.js';
 
 /**
@@ -41,8 +41,9 @@ export async function loadTypedFileGrouped(
   const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
   if (key.length) await assertKeyValid(session, target, key, columns, file);
-  // Every column is text here; a single-column key has been checked, so its rows are counted, not grouped.
-  const grouped = options.group ? await groupColumns(session, target, columns, key.length === 1 ? key[0] : null) : new Map<string, string>();
+  // Text columns only (a Parquet delivery is typed already); a checked single-column key's rows are counted, not grouped.
+  const texts = options.group ? (await columnsOf(session, target)).filter((c) => c.type === 'VARCHAR').map((c) => c.name) : [];
+  const grouped = options.group ? await groupColumns(session, target, texts, key.length === 1 ? key[0] : null) : new Map<string, string>();
   const typings = await decideColumnTypes(session, target, key, options.declared ?? new Map(), { preserveText: !options.keepText, keyChecked: key.length > 0, grouped });
   if (!options.keepText) await applyColumnTypes(session, target, options.castKeyOnly ? typings.filter((t) => key.includes(t.column)) : typings);
   const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));

@@ -70,8 +70,9 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
       for (const { table, codebook } of prepared.tables) {
         options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
         const delivered = rawName(table, prepared.prefix);
-        // Each column grouped once, for type detection and the profile alike (the key was checked on loading).
-        const grouped = await groupColumns(session, delivered, (await columnsOf(session, delivered)).map((c) => c.name), table.key.length === 1 ? table.key[0] : null);
+        // Each text column grouped once, for type detection and the profile alike (the key was checked on loading).
+        const texts = (await columnsOf(session, delivered)).filter((c) => c.type === 'VARCHAR').map((c) => c.name);
+        const grouped = await groupColumns(session, delivered, texts, table.key.length === 1 ? table.key[0] : null);
         const typings = await decideColumnTypes(session, delivered, table.key, declaredTypes(codebook), { keyChecked: true, grouped });
         // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
         // the other columns' distinct values. The cast is made in a copy when the clean side still

@@ -1,6 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
+import { Session } from '../../src/engine/session.js';
 import { profileFile } from '../../src/profile/profile-file.js';
 import { readCodebookFile } from '../../src/project/codebook.js';
 import { removeDir, tempDir } from '../helpers/project.js';
@@ -51,6 +52,26 @@ describe('profiling columns held as text', () => {
     expect(x.type).toBe('integer');
     expect(x.extremes?.lowest.map((e) => e.key)).toEqual(['2', '9', '10', '11']);
     expect(x.extremes?.highest.map((e) => e.key)).toEqual(['2', '9', '10', '11']);
+  });
+
+  it('a Parquet file keeps its own types; only its text columns are grouped and detected', async () => {
+    // Written by DuckDB: dose DOUBLE (typed already), code VARCHAR holding whole numbers (detected as integers).
+    const file = path.join(dir, 'typed.parquet');
+    const session = await Session.open();
+    try {
+      await session.run(`COPY (SELECT * FROM (VALUES (1, 2.5, '7'), (2, 3.5, '8'), (3, 6.5, '9')) AS t(id, dose, code)) TO '${file}' (FORMAT parquet)`);
+    } finally {
+      session.close();
+    }
+    const profile = await profileFile(file, { key: ['id'], spillDir: path.join(dir, 'spill') });
+    const dose = columnOf(profile, 'dose');
+    // Mean (2.5 + 3.5 + 6.5) / 3 = 4.1666…; the lowest value 2.5 is row 1's.
+    expect(dose.type).toBe('number');
+    expect(dose.mean).toBeCloseTo(12.5 / 3, 12);
+    expect(dose.extremes?.lowest[0]).toEqual({ key: '1', value: '2.5' });
+    const code = columnOf(profile, 'code');
+    expect(code.type).toBe('integer');
+    expect([code.min, code.median, code.max]).toEqual([7, 8, 9]);
   });
 
   it('rows flagged by value are found through their text', async () => {
