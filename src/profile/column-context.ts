@@ -31,7 +31,7 @@ export interface ColumnContext {
   count: string;
   /**
    * Set when the table holds the column as text and the profile reads it as `type`: a table of the
-   * column's distinct texts (column TEXT_COLUMN) beside their typed values (under the column's name),
+   * column's distinct texts (in the column `textColumn` names) beside their typed values (under the column's name),
    * through which rows are found by their text. Null when the table holds the column as profiled.
    */
   texts: string | null;
@@ -89,7 +89,8 @@ export async function createCounts(
         ? `SELECT ${v} AS ${text}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`
         : `SELECT ${v} AS ${text}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`;
     await session.run(`CREATE TEMP TABLE ${ident(TEXTS_TABLE)} AS SELECT ${text}, ${castTextSql(text, options.castTo)} AS ${v}, ${k} FROM (${grouped})`);
-    await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, sum(${k}) AS ${k} FROM ${ident(TEXTS_TABLE)} GROUP BY ALL`);
+    // Counts stay BIGINT, as count(*) makes them (sum would widen them to HUGEINT).
+    await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, CAST(sum(${k}) AS BIGINT) AS ${k} FROM ${ident(TEXTS_TABLE)} GROUP BY ALL`);
     return { counts: COUNTS_TABLE, texts: TEXTS_TABLE };
   }
   if (options.unique) {
