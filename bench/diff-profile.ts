@@ -76,7 +76,7 @@ function kindOf(sql: string): string {
   if (/^CREATE OR REPLACE TABLE "\w*clean_\w+" AS SELECT \* FROM "\w*raw_/.test(s)) return 'copy raw to clean';
   if (/^CREATE TEMP TABLE "__diff_/.test(s)) return 'diff: join into work table';
   if (/__diff_/.test(s)) return 'diff: summary, keys, cells';
-  if (/duckdb_columns\(\)/.test(s)) return 'catalogue lookup';
+  if (/duckdb_columns\(\)|pragma_table_info\(/.test(s)) return 'catalogue lookup';
   return 'other';
 }
 

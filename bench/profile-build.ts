@@ -30,7 +30,7 @@ function kindOf(sql: string): string {
   if (/read_csv\(/.test(s)) return 'read raw CSV';
   if (/row_number\(\) OVER \(\)/.test(s)) return 'key check';
   if (/json_serialize_sql/.test(s)) return 'expression guard';
-  if (/duckdb_columns\(\)/.test(s)) return 'catalogue lookup';
+  if (/duckdb_columns\(\)|pragma_table_info\(/.test(s)) return 'catalogue lookup';
   if (/count\(\*\) FILTER/.test(s)) return 'type detection scan';
   if (/^COPY .* FORMAT csv/.test(s)) return 'write clean CSV';
   if (/^COPY .* FORMAT parquet/.test(s)) return 'write lineage Parquet';

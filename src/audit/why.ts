@@ -1,6 +1,7 @@
 import { ErrataError } from '../errors.js';
 import { keyExpression, keyText } from '../engine/keys.js';
 import { ident } from '../engine/sql.js';
+import { columnNames } from '../engine/load-table.js';
 import { textSql } from '../engine/value-text.js';
 import type { ProjectBuild, TableBuild } from '../build/build-project.js';
 import type { ChangeKind } from '../corrections/apply-corrections.js';
@@ -84,8 +85,7 @@ export async function explainCell(
 
   if (!table.rawTable) throw new Error('explainCell needs a build that kept the raw tables (keepRaw)');
   const rawTable = table.rawTable;
-  const rawColumns = await session.all<{ column_name: string }>(`SELECT column_name FROM duckdb_columns() WHERE table_name = $1`, [rawTable]);
-  if (rawColumn && !rawColumns.some((c) => c.column_name === rawColumn)) rawColumn = null;
+  if (rawColumn && !(await columnNames(session, rawTable)).includes(rawColumn)) rawColumn = null;
   const rawRow = await session.all<{ value: string | null }>(
     `SELECT ${rawColumn ? `CAST(${ident(rawColumn)} AS VARCHAR)` : 'NULL'} AS value FROM ${ident(rawTable)} WHERE ${keyExpression(config.key)} = $1`,
     [key],

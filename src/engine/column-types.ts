@@ -1,6 +1,7 @@
 import type { Session } from './session.js';
 import { ident } from './sql.js';
 import { keyExpression } from './keys.js';
+import { columnsOf } from './load-table.js';
 import { textSql } from './value-text.js';
 
 /** The value types errata works with, in Frictionless Table Schema's names. */
@@ -148,11 +149,8 @@ export async function decideColumnTypes(
   options: { preserveText?: boolean; only?: ReadonlySet<string>; keyChecked?: boolean; grouped?: GroupedColumns } = {},
 ): Promise<ColumnTyping[]> {
   const preserveText = options.preserveText ?? true;
-  const columns = await session.all<{ column_name: string; data_type: string }>(
-    `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
-    [table],
-  );
-  const text = columns.filter((c) => c.data_type === 'VARCHAR' && (!options.only || options.only.has(c.column_name))).map((c) => c.column_name);
+  const columns = await columnsOf(session, table);
+  const text = columns.filter((c) => c.type === 'VARCHAR' && (!options.only || options.only.has(c.name))).map((c) => c.name);
   if (text.length === 0) return [];
   // Each check runs once per distinct value (weighted by its count), not once per row: coded
   // columns have few distinct values, and the checks cost more than the grouping.

