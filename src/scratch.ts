@@ -18,7 +18,8 @@ export function writableDir(preferred: string): string {
   return fallback;
 }
 
-function canWriteTo(dir: string): boolean {
+/** Whether `dir` exists (it is made if missing) and this process may write in it. */
+export function canWriteTo(dir: string): boolean {
   try {
     mkdirSync(dir, { recursive: true });
     accessSync(dir, constants.W_OK);

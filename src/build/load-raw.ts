@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { accessSync, closeSync, constants, existsSync, mkdirSync, openSync, readSync, readdirSync, renameSync, rmSync } from 'node:fs';
+import { closeSync, existsSync, mkdirSync, openSync, readSync, readdirSync, renameSync, rmSync } from 'node:fs';
 import { faultPoint } from '../fault.js';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
@@ -10,6 +10,7 @@ import type { Session } from '../engine/session.js';
 import type { ProjectTree } from '../git/tree.js';
 import type { TableConfig } from '../project/config.js';
 import { processAlive } from '../process-alive.js';
+import { canWriteTo } from '../scratch.js';
 
 export interface RawInput {
   path: string;
@@ -109,21 +110,12 @@ async function writeCacheEntry(session: Session, table: string, cached: string):
     await session.run(`COPY ${ident(table)} TO ${literal(temp)} (FORMAT parquet, COMPRESSION zstd)`);
   } catch (error) {
     rmSync(temp, { force: true });
-    if (!existsSync(dir) || !canWrite(dir)) return;
+    if (!existsSync(dir) || !canWriteTo(dir)) return;
     throw error;
   }
   faultPoint('cache-written');
   renameSync(temp, cached);
   faultPoint('cache-renamed');
-}
-
-function canWrite(dir: string): boolean {
-  try {
-    accessSync(dir, constants.W_OK);
-    return true;
-  } catch {
-    return false;
-  }
 }
 
 /** `.tmp` files of runs that were killed while writing: their process is gone, so nothing will finish them. */
@@ -166,7 +158,6 @@ export async function loadRawTable(
   planned?: readonly RawInput[],
 ): Promise<{ inputs: RawInput[]; columns: string[] }> {
   const chosen = planned ?? (await planRawTable(tree, table));
-  const inputs: RawInput[] = [];
   const parts: string[] = [];
   let columns: string[] = [];
   for (const [index, { path: file, blob }] of chosen.entries()) {
@@ -183,11 +174,10 @@ export async function loadRawTable(
       }
     }
     parts.push(part);
-    inputs.push({ path: file, blob });
   }
   if (parts.length > 1) await stackTables(session, parts, target);
   await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0].path : table.raw);
-  return { inputs, columns };
+  return { inputs: [...chosen], columns };
 }
 
 /**

@@ -23,8 +23,8 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   try {
     const key = options.key ?? [];
     // Kept as delivered text: compared by the types decided over each whole column, shown as written.
-    const oldTypes = await loadTypedFile(session, oldFile, 'old_side', { key, keepText: true });
-    const newTypes = await loadTypedFile(session, newFile, 'new_side', { key, keepText: true });
+    const oldTypes = await loadTypedFile(session, oldFile, 'old_side', { key });
+    const newTypes = await loadTypedFile(session, newFile, 'new_side', { key });
     const table = path.basename(newFile);
     if (key.length === 0) return await diffRowMultisets(session, 'old_side', 'new_side', { table, rowLimit: options.cellLimit });
     return await diffTables(session, 'old_side', 'new_side', {

@@ -97,6 +97,27 @@ export async function groupColumns(session: Session, table: string, columns: rea
 const GROUPED = '__errata_grouped_';
 const VIEW = '_view';
 
+/** A table's text columns, each grouped once (groupColumns), with the type decided for each. */
+export interface TextColumns {
+  types: ReadonlyMap<string, ValueType>;
+  grouped: GroupedColumns;
+}
+
+/**
+ * Group a loaded table's text columns once and decide each one's type from its groups, by the build's
+ * rule (no value rewritten). The key has been checked. For the profile, which casts distinct values
+ * rather than the table; the caller drops the groups (dropGroupedColumns) when done.
+ */
+export async function decideFromGroups(session: Session, table: string, key: readonly string[], declared: ReadonlyMap<string, ValueType>): Promise<{ typings: ColumnTyping[]; text: TextColumns }> {
+  // Text columns only: a Parquet delivery is typed already.
+  const texts = (await columnsOf(session, table)).filter((c) => c.type === 'VARCHAR').map((c) => c.name);
+  const grouped = await groupColumns(session, table, texts, key.length === 1 ? key[0] : null);
+  const typings = await decideColumnTypes(session, table, key, declared, { keyChecked: true, grouped });
+  const types = new Map<string, ValueType>(texts.map((c) => [c, 'string']));
+  for (const t of typings) types.set(t.column, t.type);
+  return { typings, text: { types, grouped } };
+}
+
 export async function dropGroupedColumns(session: Session, grouped: GroupedColumns): Promise<void> {
   for (const name of grouped.values()) await session.run(`DROP ${name.endsWith(VIEW) ? 'VIEW' : 'TABLE'} IF EXISTS ${ident(name)}`);
 }

@@ -65,30 +65,25 @@ export function textColumn(column: string): string {
 /**
  * Group a column once: its distinct values (null among them) with the rows holding each. A column
  * already known to hold each value once (a checked single-column key) needs no grouping: a view
- * counting every row once stands in. With `castTo`, the table holds the column as text and the
- * profile reads it as that type: the texts are grouped and each distinct text cast once (a million
- * rows of a few hundred distinct texts cost a few hundred casts, not a million), and since two texts
- * can be one value ("1.5" and "1.50" as numbers) the values are grouped again from the texts.
+ * counting every row once stands in. A column already grouped (`grouped`, see groupColumns) is read
+ * as it is; with `castTo` the table holds it as text and the profile reads it as that type, so each
+ * distinct text is cast once (a million rows of a few hundred texts cost a few hundred casts), and
+ * since two texts can be one value ("1.5" and "1.50" as numbers) the values are grouped again.
  */
 export async function createCounts(
   session: Session,
   table: string,
   column: string,
-  options: { unique?: boolean; castTo?: Exclude<ValueType, 'string'>; grouped?: string } = {},
+  options: { unique?: boolean; grouped?: { table: string; castTo?: Exclude<ValueType, 'string'> } } = {},
 ): Promise<{ counts: string; texts: string | null }> {
   const v = ident(column);
   const k = ident(rowsColumn(column));
   await dropCounts(session);
-  // Already grouped as the table holds it (groupColumns): read, not grouped again.
-  if (options.grouped && !options.castTo) return { counts: options.grouped, texts: null };
-  if (options.castTo) {
+  const { grouped } = options;
+  if (grouped && !grouped.castTo) return { counts: grouped.table, texts: null };
+  if (grouped?.castTo) {
     const text = ident(textColumn(column));
-    const grouped = options.grouped
-      ? `SELECT ${v} AS ${text}, ${k} FROM ${ident(options.grouped)}`
-      : options.unique
-        ? `SELECT ${v} AS ${text}, CAST(1 AS BIGINT) AS ${k} FROM ${ident(table)}`
-        : `SELECT ${v} AS ${text}, count(*) AS ${k} FROM ${ident(table)} GROUP BY ALL`;
-    await session.run(`CREATE TEMP TABLE ${ident(TEXTS_TABLE)} AS SELECT ${text}, ${castTextSql(text, options.castTo)} AS ${v}, ${k} FROM (${grouped})`);
+    await session.run(`CREATE TEMP TABLE ${ident(TEXTS_TABLE)} AS SELECT ${v} AS ${text}, ${castTextSql(v, grouped.castTo)} AS ${v}, ${k} FROM ${ident(grouped.table)}`);
     // Counts stay BIGINT, as count(*) makes them (sum would widen them to HUGEINT).
     await session.run(`CREATE TEMP TABLE ${ident(COUNTS_TABLE)} AS SELECT ${v}, CAST(sum(${k}) AS BIGINT) AS ${k} FROM ${ident(TEXTS_TABLE)} GROUP BY ALL`);
     return { counts: COUNTS_TABLE, texts: TEXTS_TABLE };

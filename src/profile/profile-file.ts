@@ -1,7 +1,7 @@
 import os from 'node:os';
 import path from 'node:path';
 import { columnNames } from '../engine/load-table.js';
-import { loadTypedFileGrouped } from '../engine/load-typed.js';
+import { loadGroupedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import { declaredTypes, type Codebook } from '../project/codebook.js';
@@ -32,14 +32,12 @@ export async function profileFile(file: string, options: FileProfileOptions = {}
   try {
     const key = options.key ?? [];
     const codebook = options.codebook ?? null;
-    // Only the key is cast in the table; the other columns are grouped once, for type detection and
-    // the profile alike, and cast per distinct value.
-    const { types: textAs, grouped } = await loadTypedFileGrouped(session, file, 'file', { key, declared: declaredTypes(codebook), castKeyOnly: true, group: true });
+    const text = await loadGroupedFile(session, file, 'file', { key, declared: declaredTypes(codebook) });
     const name = path.basename(file);
-    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook, textAs, grouped });
+    if (key.length) return await profileTable(session, 'file', { name, source: 'file', key, codebook, text });
     const rowColumn = unusedName('row', await columnNames(session, 'file'));
     await session.run(`CREATE TABLE "numbered" AS SELECT row_number() OVER () AS ${ident(rowColumn)}, * FROM "file"`);
-    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook, textAs, grouped });
+    return await profileTable(session, 'numbered', { name, source: 'file', key: [], rowColumn, codebook, text });
   } finally {
     session.close();
   }

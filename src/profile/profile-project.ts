@@ -2,8 +2,7 @@ import path from 'node:path';
 import { correctProject, prepareProject, rawName, type BuildProgress, type PreparedProject, type TableBuild } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
 import type { Conflict } from '../corrections/apply-corrections.js';
-import { applyColumnTypes, decideColumnTypes, dropGroupedColumns, groupColumns } from '../engine/column-types.js';
-import { columnsOf } from '../engine/load-table.js';
+import { applyColumnTypes, decideFromGroups, dropGroupedColumns } from '../engine/column-types.js';
 import { Session } from '../engine/session.js';
 import { ident } from '../engine/sql.js';
 import type { ProjectTree } from '../git/tree.js';
@@ -70,10 +69,8 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
       for (const { table, codebook } of prepared.tables) {
         options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
         const delivered = rawName(table, prepared.prefix);
-        // Each text column grouped once, for type detection and the profile alike (the key was checked on loading).
-        const texts = (await columnsOf(session, delivered)).filter((c) => c.type === 'VARCHAR').map((c) => c.name);
-        const grouped = await groupColumns(session, delivered, texts, table.key.length === 1 ? table.key[0] : null);
-        const typings = await decideColumnTypes(session, delivered, table.key, declaredTypes(codebook), { keyChecked: true, grouped });
+        // The key was checked on loading.
+        const { typings, text } = await decideFromGroups(session, delivered, table.key, declaredTypes(codebook));
         // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
         // the other columns' distinct values. The cast is made in a copy when the clean side still
         // needs the delivery as text.
@@ -82,10 +79,9 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
         const typed = copied ? `${prepared.prefix}profiled_raw_${table.name}` : delivered;
         if (copied) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(delivered)}`);
         await applyColumnTypes(session, typed, keyTypings);
-        const textAs = new Map(typings.map((t) => [t.column, t.type]));
-        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, textAs, grouped }));
+        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, text }));
         if (copied) await session.run(`DROP TABLE ${ident(typed)}`);
-        await dropGroupedColumns(session, grouped);
+        await dropGroupedColumns(session, text.grouped);
       }
     }
     const tables: ProjectTableProfile[] = prepared.tables.map(({ table }) => ({ name: table.name, raw: raw.get(table.name) ?? null, clean: null, renamed: {} }));

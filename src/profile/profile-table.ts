@@ -1,4 +1,4 @@
-import { SQL_TYPE, rowsColumn, valueTypeOf, type GroupedColumns, type ValueType } from '../engine/column-types.js';
+import { SQL_TYPE, rowsColumn, valueTypeOf, type TextColumns } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -26,12 +26,11 @@ export interface ProfileTableOptions {
   rowColumn?: string;
   codebook: Codebook | null;
   /**
-   * Columns the table holds as text that are to be profiled as another type (the type decided for
-   * them): each distinct text is cast instead of every row, and rows are found by their text.
+   * The table's text columns, grouped once, with their decided types (decideFromGroups): each group is
+   * read instead of grouping again, and a column typed other than text is profiled as that type by
+   * casting its distinct texts instead of every row; rows are then found by their text.
    */
-  textAs?: ReadonlyMap<string, ValueType>;
-  /** Text columns already grouped (groupColumns), read instead of grouped again. */
-  grouped?: GroupedColumns;
+  text?: TextColumns;
 }
 
 /** Counts and order statistics of one column, read off its distinct values and their counts. */
@@ -65,12 +64,12 @@ export async function profileTable(session: Session, table: string, options: Pro
     const field = fieldOf(options.codebook, column.name);
     // Loading has checked the key: a single key column holds each value once.
     const isKey = options.key.includes(column.name);
-    const castTo = column.type === 'VARCHAR' ? options.textAs?.get(column.name) : undefined;
-    const typedAs = castTo && castTo !== 'string' ? castTo : undefined;
-    const sqlType = typedAs ? SQL_TYPE[typedAs] : column.type;
     // A group holds the column's texts: it serves only while the table still holds the column as text.
-    const grouped = column.type === 'VARCHAR' ? options.grouped?.get(column.name) : undefined;
-    const { counts, texts } = await createCounts(session, table, column.name, { unique: isKey && options.key.length === 1, castTo: typedAs, grouped });
+    const group = column.type === 'VARCHAR' ? options.text?.grouped.get(column.name) : undefined;
+    const decided = group ? options.text?.types.get(column.name) : undefined;
+    const castTo = decided && decided !== 'string' ? decided : undefined;
+    const sqlType = castTo ? SQL_TYPE[castTo] : column.type;
+    const { counts, texts } = await createCounts(session, table, column.name, { unique: isKey && options.key.length === 1, grouped: group ? { table: group, castTo } : undefined });
     const ctx: ColumnContext = {
       session,
       table,

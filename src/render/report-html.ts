@@ -312,6 +312,8 @@ function staticRow(c: CellChange, attributed: boolean): string {
 function renderAudit(data: ReportData): string {
   const notes = new Set(data.notes.map((n) => n.id));
   const diffIds = new Map(data.diffs.map((d, i) => [d.table, `diff-${i + 1}`]));
+  // Which corrections changed cells of each table's diff, gathered once rather than per audit entry.
+  const inDiff = new Set(data.diffs.flatMap((d) => d.cells.map((c) => `${d.table}\u0000${c.correction}`)));
   const rows = data.audit.map((e: AuditEntry) => {
     const approval = !e.approval ? '✗ none' : notes.has(e.approval) ? `<a href="#note-${h(e.approval)}">${h(e.approval)}</a>` : `${h(e.approval)} (✗ note not found)`;
     const approver = e.approver ? `${h(e.approverName ?? e.approver)}${e.approvedOn ? `<br><small>on ${h(e.approvedOn)}</small>` : ''}` : '—';
@@ -322,7 +324,7 @@ function renderAudit(data: ReportData): string {
       ...e.columnEvents.map((ev) => `${h(ev.change)} ${h(ev.column)}${ev.detail ? ` (${h(ev.detail)})` : ''}`),
     ];
     const diffId = diffIds.get(e.table);
-    const inRange = data.diffs.find((d) => d.table === e.table)?.cells.some((c) => c.correction === e.correction);
+    const inRange = inDiff.has(`${e.table}\u0000${e.correction}`);
     const show = diffId && inRange ? `<br><a href="#${diffId}" data-show-correction="${h(e.correction)}">show its cells in the diff</a>` : '';
     return `<tr><th scope="row"><code>${h(e.correction)}</code><br><small>${h(e.table)}</small></th><td>${h(e.reason)}</td><td>${approval}</td><td>${approver}</td><td>${committed}</td><td>${changed.length ? changed.join('<br>') : 'nothing'}${show}</td></tr>`;
   });

@@ -3,9 +3,9 @@ import { auditTrail, type AuditEntry } from '../audit/audit-trail.js';
 import { fileOrigins } from '../audit/history.js';
 import { rawName } from '../build/build-project.js';
 import type { RawCache } from '../build/load-raw.js';
-import { checkLoadedTables, type ProjectCheck } from '../check/check-project.js';
-import { diffBuilt, diffRevisions, type RevisionDiff } from '../diff/revision-diff.js';
-import { ErrataError } from '../errors.js';
+import type { Session } from '../engine/session.js';
+import { checkLoadedTables, type CheckTarget, type ProjectCheck } from '../check/check-project.js';
+import { diffBuilt, type RevisionDiff } from '../diff/revision-diff.js';
 import { RevisionTree } from '../git/tree.js';
 import { compareProfiles } from '../profile/compare-profiles.js';
 import { profileProject } from '../profile/profile-project.js';
@@ -46,10 +46,10 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
   const { root, range } = options;
   const blobs = path.join(root, '.errata', 'cache', 'blobs');
   const headTree = await RevisionTree.at(root, range.head, blobs);
-  const baseTree = await RevisionTree.at(root, range.base, blobs);
   const progress = (phase: ReportPhase) => (event: object) => options.onProgress?.({ phase, table: 'table' in event ? String(event.table) : undefined });
 
-  // The head is loaded and built once: its checks and audit trail come from the profile's session.
+  // The head is loaded and built once for its profile, checks and audit trail (the review below builds
+  // it again, beside the base).
   let rawCheck: ProjectCheck | null = null;
   let cleanCheck: ProjectCheck | null = null;
   let audit: AuditEntry[] = [];
@@ -63,12 +63,12 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     onProgress: progress('profile'),
     withRaw: async (session, prepared) => {
       const targets = prepared.tables.map((t) => ({ config: t.table, codebook: t.codebook, table: rawName(t.table, prepared.prefix) }));
-      rawCheck = await checkOrNone(() => checkLoadedTables(session, targets, { source: 'raw', onProgress: progress('check') }));
+      rawCheck = await checkOrNone(session, targets, { source: 'raw', onProgress: progress('check') });
     },
     withClean: async (session, prepared, builds) => {
       const targets = builds.map((b) => ({ config: b.config, codebook: b.codebook, table: b.cleanTable }));
       const conflicts = builds.flatMap((b) => b.conflicts);
-      cleanCheck = await checkOrNone(() => checkLoadedTables(session, targets, { source: 'clean', conflicts, onProgress: progress('check') }));
+      cleanCheck = await checkOrNone(session, targets, { source: 'clean', conflicts, onProgress: progress('check') });
       options.onProgress?.({ phase: 'audit' });
       const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
       audit = await auditTrail({ session, config: prepared.config, tables: builds, conflicts }, notes, await fileOrigins(headTree), people);
@@ -80,8 +80,9 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     discrepancies: countByRule(rawCheck, cleanCheck, t.name),
   }));
 
-  // Both ends are built once, for the review, and diffed while they are.
-  let diff: RevisionDiff | null = null;
+  // Both ends are built once, for the review, and diffed while they are (no review cache is passed,
+  // so the review always builds them).
+  const built: { diff?: RevisionDiff } = {};
   const review = await reviewRange({
     root,
     base: range.base,
@@ -90,10 +91,11 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     cache: options.cache,
     onProgress: progress('review'),
     withBuilt: async (session, base, head) => {
-      diff = await diffBuilt(session, base, head, { cellLimit: options.cellLimit, onProgress: progress('diff') });
+      built.diff = await diffBuilt(session, base, head, { cellLimit: options.cellLimit, onProgress: progress('diff') });
     },
   });
-  diff ??= await diffRevisions({ base: baseTree, head: headTree, cellLimit: options.cellLimit, workDir: options.workDir, cache: options.cache, onProgress: progress('diff') });
+  const { diff } = built;
+  if (!diff) throw new Error('the review did not build both ends');
   return {
     range,
     tables,
@@ -105,13 +107,9 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
 }
 
 /** A project without any codebook has nothing to check; the report says so instead of failing. */
-async function checkOrNone(check: () => Promise<{ result: ProjectCheck }>): Promise<ProjectCheck | null> {
-  try {
-    return (await check()).result;
-  } catch (error) {
-    if (error instanceof ErrataError && error.code === 'INPUT_MISSING') return null;
-    throw error;
-  }
+async function checkOrNone(session: Session, targets: readonly CheckTarget[], options: Parameters<typeof checkLoadedTables>[2]): Promise<ProjectCheck | null> {
+  if (!targets.some((t) => t.codebook)) return null;
+  return (await checkLoadedTables(session, targets, options)).result;
 }
 
 /** Discrepancies per rule on each side, rules in order of first appearance (raw first). */
