@@ -115,6 +115,8 @@ async function main(): Promise<void> {
   const build = await buildProject({
     tree,
     workDir,
+    // As `errata build` runs it: the raw table becomes the clean one.
+    keepRaw: false,
     onProgress: (event) => {
       if (event.phase === 'load') phase = 'load + key check';
       if (event.phase === 'correct') {

@@ -40,8 +40,16 @@ function cacheFile(cache: RawCache, blob: string, input: Omit<InputFile, 'localP
  * killed mid-write leaves at most a `.tmp` file, which is never read and is removed by a later run.
  * An entry that cannot be read all the same (a damaged disk) is parsed again and replaced.
  */
-async function loadCached(session: Session, tree: ProjectTree, input: Omit<InputFile, 'localPath'>, target: string, blob: string, cache?: RawCache): Promise<string[]> {
-  const cached = cache ? cacheFile(cache, blob, input) : null;
+async function loadCached(
+  session: Session,
+  tree: ProjectTree,
+  input: Omit<InputFile, 'localPath'>,
+  target: string,
+  blob: string,
+  cache: RawCache | undefined,
+  order: 'any' | 'file',
+): Promise<string[]> {
+  const cached = cache && order === 'any' ? cacheFile(cache, blob, input) : null;
   if (cached && existsSync(cached)) {
     try {
       await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(cached)})`);
@@ -51,10 +59,11 @@ async function loadCached(session: Session, tree: ProjectTree, input: Omit<Input
     }
   }
   const localPath = await tree.localPath(input.name);
-  const columns = await loadFile(session, { ...input, localPath }, target);
   // In CSV a NUL in a value is a NUL byte in the file, and scanning the bytes takes a fraction of the
   // table scan (0.3 s a million rows); JSON lines can spell one as an escape, so they are always scanned.
+  // A file that may hold one is read in file order, so the record holding it can be named.
   const mayHoldNul = input.format === 'jsonl' || ((input.format === 'csv' || input.format === 'tsv') && fileHoldsNulByte(localPath));
+  const columns = await loadFile(session, { ...input, localPath }, target, { anyOrder: order === 'any' && !mayHoldNul });
   if (mayHoldNul) await assertNoNulBytes(session, target, columns, input.name, input.format === 'jsonl' ? 0 : 1);
   if (cached && cache?.write && input.format !== 'parquet') await writeCacheEntry(session, target, cached);
   return columns;
@@ -158,25 +167,32 @@ export async function loadRawTable(
   planned?: readonly RawInput[],
 ): Promise<{ inputs: RawInput[]; columns: string[] }> {
   const chosen = planned ?? (await planRawTable(tree, table));
-  const parts: string[] = [];
-  let columns: string[] = [];
-  for (const [index, { path: file, blob }] of chosen.entries()) {
-    const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
-    const part = chosen.length === 1 ? target : `${target}__part${index}`;
-    columns = await loadCached(session, tree, input, part, blob, cache);
-    await assertHasRows(session, part, file);
-    for (const k of table.key) {
-      if (!columns.includes(k)) {
-        throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
-          hint: `Its columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml, or ask for a delivery with that column.`,
-          data: { file, line: 1, column: k },
-        });
+  // Rows are named by their key from here on, so they may load in any order; only a key problem,
+  // which names rows by their place in the file, needs the delivery read again in file order.
+  const load = async (order: 'any' | 'file'): Promise<string[]> => {
+    const parts: string[] = [];
+    let columns: string[] = [];
+    for (const [index, { path: file, blob }] of chosen.entries()) {
+      const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
+      const part = chosen.length === 1 ? target : `${target}__part${index}`;
+      columns = await loadCached(session, tree, input, part, blob, cache, order);
+      await assertHasRows(session, part, file);
+      for (const k of table.key) {
+        if (!columns.includes(k)) {
+          throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
+            hint: `Its columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml, or ask for a delivery with that column.`,
+            data: { file, line: 1, column: k },
+          });
+        }
       }
+      parts.push(part);
     }
-    parts.push(part);
-  }
-  if (parts.length > 1) await stackTables(session, parts, target);
-  await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0].path : table.raw);
+    if (parts.length > 1) await stackTables(session, parts, target);
+    return columns;
+  };
+  const columns = await load('any');
+  const named = chosen.length === 1 ? chosen[0].path : table.raw;
+  await assertKeyValid(session, target, table.key, columns, named, async () => void (await load('file')));
   return { inputs: [...chosen], columns };
 }
 

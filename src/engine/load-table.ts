@@ -16,6 +16,15 @@ export interface InputFile {
   delimiter?: string;
 }
 
+export interface LoadOptions {
+  /**
+   * The caller names rows by their key, never by position: delimited rows may land in any order, which
+   * lets DuckDB read the file in parallel without keeping its order (0.3-0.4 s less per million rows).
+   * The table's rowid is then not the record's position in the file.
+   */
+  anyOrder?: boolean;
+}
+
 const EXTENSIONS: Record<string, FileFormat> = {
   '.csv': 'csv',
   '.txt': 'csv',
@@ -38,14 +47,14 @@ export function formatOf(filename: string, configured?: FileFormat): FileFormat 
  * in every column, so nothing is converted (or lost) before type detection has looked at every row;
  * Parquet keeps the types its writer declared.
  */
-export async function loadFile(session: Session, input: InputFile, target: string): Promise<string[]> {
+export async function loadFile(session: Session, input: InputFile, target: string, options: LoadOptions = {}): Promise<string[]> {
   if (!existsSync(input.localPath) || !statSync(input.localPath).isFile()) {
     throw new ErrataError('INPUT_MISSING', `no such file: ${input.name}`, { hint: 'Check the path.', data: { file: input.name } });
   }
   switch (input.format) {
     case 'csv':
     case 'tsv':
-      return loadDelimited(session, input, target);
+      return loadDelimited(session, input, target, options.anyOrder ?? false);
     case 'parquet':
       return loadParquet(session, input, target);
     case 'jsonl':
@@ -53,7 +62,7 @@ export async function loadFile(session: Session, input: InputFile, target: strin
   }
 }
 
-async function loadDelimited(session: Session, input: InputFile, target: string): Promise<string[]> {
+async function loadDelimited(session: Session, input: InputFile, target: string, anyOrder: boolean): Promise<string[]> {
   const delimiter = input.delimiter ?? (input.format === 'tsv' ? '\t' : ',');
   const header = readHeader(input, delimiter);
   const columns = header.map((name) => `${literal(name)}: 'VARCHAR'`).join(', ');
@@ -63,9 +72,12 @@ async function loadDelimited(session: Session, input: InputFile, target: string)
       delim = ${literal(delimiter)}, quote = '"', escape = '"',
       strict_mode = true, allow_quoted_nulls = false, null_padding = false, max_line_size = ${MAX_LINE_BYTES})`;
   try {
+    if (anyOrder) await session.runRaw('SET preserve_insertion_order = false');
     await session.runRaw(sql);
   } catch (error) {
     throw csvError(input, (error as Error).message);
+  } finally {
+    if (anyOrder) await session.runRaw('SET preserve_insertion_order = true');
   }
   return header;
 }

@@ -17,7 +17,8 @@ interface LoadFileOptions {
  * returned: a diff compares by them but shows the text delivered.
  */
 export async function loadTypedFile(session: Session, file: string, target: string, options: LoadFileOptions = {}): Promise<Map<string, ValueType>> {
-  const { columns, key } = await loadCheckedFile(session, file, target, options);
+  // A keyed diff names rows by key, so the file may load in any order (see LoadOptions.anyOrder).
+  const { columns, key } = await loadCheckedFile(session, file, target, options, (options.key ?? []).length > 0);
   const typings = await decideColumnTypes(session, target, key, new Map(), { preserveText: false, keyChecked: key.length > 0 });
   const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
   for (const t of typings) types.set(t.column, t.type);
@@ -41,7 +42,13 @@ export async function loadGroupedFile(
   return text;
 }
 
-async function loadCheckedFile(session: Session, file: string, target: string, options: LoadFileOptions): Promise<{ columns: string[]; key: readonly string[] }> {
+async function loadCheckedFile(
+  session: Session,
+  file: string,
+  target: string,
+  options: LoadFileOptions,
+  anyOrder = false,
+): Promise<{ columns: string[]; key: readonly string[] }> {
   const format = formatOf(file, options.format);
   if (!format) {
     throw new ErrataError('INPUT_FORMAT', `cannot tell the format of ${path.basename(file)} from its extension`, {
@@ -49,8 +56,10 @@ async function loadCheckedFile(session: Session, file: string, target: string, o
       data: { file },
     });
   }
-  const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
+  const input = { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter };
+  const columns = await loadFile(session, input, target, { anyOrder });
   const key = options.key ?? [];
-  if (key.length) await assertKeyValid(session, target, key, columns, file);
+  const reloadInFileOrder = anyOrder ? async () => void (await loadFile(session, input, target)) : undefined;
+  if (key.length) await assertKeyValid(session, target, key, columns, file, reloadInFileOrder);
   return { columns, key };
 }

@@ -157,6 +157,21 @@ describe('keyed diff against an independent SQL oracle', () => {
     writeFileSync(oldFile, 'id,x\n1,a\n2,b\n1,c\n');
     await expect(diffFiles(oldFile, oldFile, { key: ['id'] })).rejects.toMatchObject({ code: 'KEY_DUPLICATE', message: expect.stringContaining('1 (2 rows') });
   });
+
+  it('names a repeated key far into a long file by its data rows in the file', async () => {
+    // About 80 MB, so DuckDB reads it in parallel pieces and may store rows out of order; data row r
+    // holds id r except the last, which repeats id 7.
+    const rows = 1_000_000;
+    const lines = ['id,a'];
+    for (let r = 1; r <= rows; r += 1) lines.push(`${r === rows ? 7 : r},${'y'.repeat(70)}`);
+    const file = path.join(dir, 'long-dup.csv');
+    writeFileSync(file, lines.join('\n') + '\n');
+    await expect(diffFiles(file, file, { key: ['id'] })).rejects.toMatchObject({
+      code: 'KEY_DUPLICATE',
+      message: expect.stringContaining('7 (2 rows: data rows 7, 1000000)'),
+      data: expect.objectContaining({ line: 1_000_001 }),
+    });
+  }, 60_000);
 });
 
 describe('diff without a key', () => {

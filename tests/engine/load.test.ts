@@ -202,6 +202,25 @@ describe('malformed deliveries are refused with a code and the line to look at',
     expect(error.data.line).toBe(4);
   });
 
+  it('a repeated key and a missing key far into a long delivery are named by their lines in the file', async () => {
+    // Long enough (about 80 MB) that DuckDB reads it in parallel pieces and, left free to, stores rows
+    // out of file order; the lines named must still be the file's. Data row r holds id r and sits on
+    // line r + 1. Row 1,000,000 repeats id 7 (so line 1,000,001); row 900,000 has no id (line 900,001).
+    const rows = 1_000_000;
+    const filler = 'x'.repeat(70);
+    const lines = ['id,a'];
+    for (let r = 1; r <= rows; r += 1) lines.push(`${r === rows ? 7 : r},${filler}`);
+    const duplicated = lines.join('\n') + '\n';
+    const repeat = await loadError(project({ 'raw/t/d.csv': duplicated }));
+    expect(repeat.code).toBe('KEY_DUPLICATE');
+    expect(repeat.message).toMatch(/7 \(2 rows: data rows 7, 1000000\)/);
+    expect(repeat.data.line).toBe(1_000_001);
+    lines[900_000] = `,${filler}`;
+    const missing = await loadError(project({ 'raw/t/d.csv': lines.join('\n') + '\n' }));
+    expect(missing.code).toBe('KEY_MISSING');
+    expect(missing.data.line).toBe(900_001);
+  }, 60_000);
+
   it('a delivery without the key column is KEY_COLUMN_MISSING at the header line, listing the columns it has', async () => {
     const error = await loadError(project({ 'raw/t/d.csv': 'ident,a\n1,x\n' }));
     expect(error.code).toBe('KEY_COLUMN_MISSING');
