@@ -1,7 +1,7 @@
 import { rmSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { loadTypedFile } from '../engine/load-typed.js';
+import { loadComparedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
 import { diffRowMultisets } from './multiset-diff.js';
 import { diffTables } from './table-diff.js';
@@ -23,8 +23,9 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   try {
     const key = options.key ?? [];
     // Kept as delivered text: compared by the types decided over each whole column, shown as written.
-    const oldTypes = await loadTypedFile(session, oldFile, 'old_side', { key });
-    const newTypes = await loadTypedFile(session, newFile, 'new_side', { key });
+    // The new side's types are worked out from the old side's counts and the rows that differ.
+    const oldFits = await loadComparedFile(session, oldFile, 'old_side', { key, countTypes: key.length > 0 });
+    await loadComparedFile(session, newFile, 'new_side', { key, countTypes: false });
     const table = path.basename(newFile);
     if (key.length === 0) return await diffRowMultisets(session, 'old_side', 'new_side', { table, rowLimit: options.cellLimit });
     return await diffTables(session, 'old_side', 'new_side', {
@@ -32,7 +33,7 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
       table,
       tolerance: options.tolerance,
       cellLimit: options.cellLimit,
-      compareTypes: { old: oldTypes, new: newTypes },
+      deliveredText: { oldFits },
     });
   } finally {
     session.close();

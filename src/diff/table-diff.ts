@@ -1,4 +1,4 @@
-import { SQL_TYPE, valueTypeOf, type ValueType } from '../engine/column-types.js';
+import { SQL_TYPE, addTypeFits, countTypeFits, detectedType, valueTypeOf, type TypeFits, type ValueType } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -17,10 +17,13 @@ export interface DiffOptions {
   /** Lineage table of the new side, to attribute each changed cell to the correction that made it. */
   lineage?: string;
   /**
-   * Types to compare by, for tables kept as delivered text (file diffs): values are compared as these
-   * types but shown as their original text. Columns not named compare by their SQL type.
+   * Both tables hold delivered text (file diffs): values are compared as the types decided over each
+   * whole column but shown as their text. `oldFits` are the old side's type counts for its text
+   * columns other than the key (loadComparedFile); the new side's are worked out from them and the
+   * rows that differ, since rows whose text is the same on both sides add the same counts to each.
+   * Without this option, columns compare by their SQL types.
    */
-  compareTypes?: { old: ReadonlyMap<string, ValueType>; new: ReadonlyMap<string, ValueType> };
+  deliveredText?: { oldFits: ReadonlyMap<string, TypeFits> };
   /**
    * Also keep every changed cell in a session table of this name ("key", "column", "old", "new"), for
    * callers that go on in SQL (the review) rather than in JavaScript.
@@ -38,39 +41,52 @@ const NUMERIC = new Set(['integer', 'number']);
 /**
  * Keyed cell-level diff of two tables in one session, as SQL: a full outer join on the key, and for
  * every common column a null-safe comparison (numbers within `tolerance` count as equal). Only rows
- * that differ are materialised, so memory follows the size of the change, not of the tables.
+ * that differ are materialised, so memory follows the size of the change, not of the tables. The
+ * join keeps the rows whose stored values differ; the typed comparison then runs on those alone.
  */
 export async function diffTables(session: Session, oldTable: string, newTable: string, options: DiffOptions): Promise<TableDiff> {
   const key = [...options.key];
-  const withTypes = (columns: ColumnInfo[], types?: ReadonlyMap<string, ValueType>): Compared[] =>
-    columns.map((c) => ({ ...c, as: types?.get(c.name) ?? valueTypeOf(c.type) }));
-  const oldColumns = withTypes(await columnsOf(session, oldTable), options.compareTypes?.old);
-  const newColumns = withTypes(await columnsOf(session, newTable), options.compareTypes?.new);
-  const oldByName = new Map(oldColumns.map((c) => [c.name, c]));
-  const newByName = new Map(newColumns.map((c) => [c.name, c]));
-  const common = newColumns.filter((c) => oldByName.has(c.name) && !key.includes(c.name));
-  const added = newColumns.filter((c) => !oldByName.has(c.name)).map((c) => c.name);
-  const removed = oldColumns.filter((c) => !newByName.has(c.name)).map((c) => c.name);
-  const retyped: ColumnRetype[] = common
-    .filter((c) => c.as !== oldByName.get(c.name)!.as)
-    .map((c) => ({ column: c.name, from: oldByName.get(c.name)!.as, to: c.as }));
+  const oldInfo = await columnsOf(session, oldTable);
+  const newInfo = await columnsOf(session, newTable);
+  const oldInfoByName = new Map(oldInfo.map((c) => [c.name, c]));
+  const newInfoByName = new Map(newInfo.map((c) => [c.name, c]));
+  const commonNames = newInfo.filter((c) => oldInfoByName.has(c.name) && !key.includes(c.name)).map((c) => c.name);
+  const added = newInfo.filter((c) => !oldInfoByName.has(c.name)).map((c) => c.name);
+  const removed = oldInfo.filter((c) => !newInfoByName.has(c.name)).map((c) => c.name);
 
-  const joinOn = key.map((k) => sameKey(k, oldByName.get(k)!, newByName.get(k)!)).join(' AND ');
-  const flags = common.map((c, i) => `${differs(c, oldByName.get(c.name)!, options.tolerance)} AS "d${i}"`);
-  const anyFlag = common.length ? common.map((_, i) => `"d${i}"`).join(' OR ') : 'false';
+  const id = Math.random().toString(36).slice(2, 10);
+  const rowsWork = `__diff_${id}_rows`;
+  const work = `__diff_${id}`;
+  const joinOn = key.map((k) => sameKey(k, oldInfoByName.get(k)!, newInfoByName.get(k)!)).join(' AND ');
+  const stored = commonNames.map((c, i) => `${storedDiffer(oldInfoByName.get(c)!, newInfoByName.get(c)!)} AS "s${i}"`);
+  const anyStored = commonNames.length ? commonNames.map((_, i) => `"s${i}"`).join(' OR ') : 'false';
   const rowKey = `CASE WHEN n.${ident(key[0])} IS NULL THEN ${keyExpression(key, 'o')} ELSE ${keyExpression(key, 'n')} END`;
   const order = key.map((k) => `COALESCE(n.${ident(k)}, o.${ident(k)})`);
-  const work = `__diff_${Math.random().toString(36).slice(2, 10)}`;
-  await session.run(`CREATE TEMP TABLE ${ident(work)} AS
+  await session.run(`CREATE TEMP TABLE ${ident(rowsWork)} AS
     SELECT * FROM (
       SELECT ${rowKey} AS "key",
              ${order.map((o, i) => `${o} AS "k${i}"`).join(', ')},
              o.${ident(key[0])} IS NULL AS "added",
              n.${ident(key[0])} IS NULL AS "removed",
-             ${[...flags, ...common.flatMap((c, i) => [`${textSql(`o.${ident(c.name)}`, oldByName.get(c.name)!.type)} AS "o${i}"`, `${textSql(`n.${ident(c.name)}`, c.type)} AS "n${i}"`])].join(',\n             ')}
+             ${[...stored, ...commonNames.flatMap((c, i) => [`o.${ident(c)} AS "ov${i}"`, `n.${ident(c)} AS "nv${i}"`])].join(',\n             ')}
       FROM ${ident(oldTable)} AS o FULL OUTER JOIN ${ident(newTable)} AS n ON ${joinOn}
-    ) WHERE "added" OR "removed" OR ${anyFlag}`);
+    ) WHERE "added" OR "removed" OR ${anyStored}`);
   try {
+    const types = options.deliveredText
+      ? await deliveredTextTypes(session, { oldInfo, newInfo, key, commonNames, rowsWork, newTable, oldFits: options.deliveredText.oldFits })
+      : null;
+    const compared = (column: ColumnInfo, side: 'old' | 'new'): Compared => ({ ...column, as: types?.[side].get(column.name) ?? valueTypeOf(column.type) });
+    const common = commonNames.map((c) => ({ old: compared(oldInfoByName.get(c)!, 'old'), new: compared(newInfoByName.get(c)!, 'new') }));
+    const retyped: ColumnRetype[] = common.filter((c) => c.new.as !== c.old.as).map((c) => ({ column: c.new.name, from: c.old.as, to: c.new.as }));
+    const flags = common.map((c, i) => `${differs(`"ov${i}"`, `"nv${i}"`, c.old, c.new, options.tolerance)} AS "d${i}"`);
+    const anyFlag = common.length ? common.map((_, i) => `"d${i}"`).join(' OR ') : 'false';
+    await session.run(`CREATE TEMP TABLE ${ident(work)} AS
+      SELECT * FROM (
+        SELECT "key", ${key.map((_, i) => `"k${i}"`).join(', ')}, "added", "removed",
+               ${[...flags, ...common.flatMap((c, i) => [`${textSql(`"ov${i}"`, c.old.type)} AS "o${i}"`, `${textSql(`"nv${i}"`, c.new.type)} AS "n${i}"`])].join(',\n               ')}
+        FROM ${ident(rowsWork)}
+      ) WHERE "added" OR "removed" OR ${anyFlag}`);
+    await session.run(`DROP TABLE ${ident(rowsWork)}`);
     const counts = await session.one<Record<string, bigint>>(`
       SELECT count(*) FILTER (WHERE "added") AS added,
              count(*) FILTER (WHERE "removed") AS removed,
@@ -91,7 +107,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
     const keyOrder = key.map((_, i) => `"k${i}"`).join(', ');
     const keysWhere = async (flag: string) =>
       (await session.all<{ key: string }>(`SELECT "key" FROM ${ident(work)} WHERE ${flag} ORDER BY ${keyOrder}`)).map((r) => r.key);
-    const cells = common.length ? await changedCells(session, work, common, keyOrder, options) : [];
+    const cells = common.length ? await changedCells(session, work, common.map((c) => c.new), keyOrder, options) : [];
     return {
       table: options.table ?? newTable,
       key,
@@ -104,8 +120,57 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
       complete: cells.length === summary.cells.changed,
     };
   } finally {
+    await session.run(`DROP TABLE IF EXISTS ${ident(rowsWork)}`);
     await session.run(`DROP TABLE IF EXISTS ${ident(work)}`);
   }
+}
+
+/**
+ * A cheap test that is true wherever the typed comparison could be: stored values that are not the
+ * same (equal values are equal under any comparison; equal texts read as equal values).
+ */
+function storedDiffer(oldColumn: ColumnInfo, newColumn: ColumnInfo): string {
+  const [o, n] = [`o.${ident(oldColumn.name)}`, `n.${ident(newColumn.name)}`];
+  if (oldColumn.type === newColumn.type) return `${o} IS DISTINCT FROM ${n}`;
+  return `${textSql(o, oldColumn.type)} IS DISTINCT FROM ${textSql(n, newColumn.type)}`;
+}
+
+/**
+ * The types both sides of a text diff are compared as: each text column's type detected over the
+ * whole column (numbers need not print back as written: 1.0 and 1 compare equal). The new side's
+ * counts are the old side's, less the old texts of the rows that differ, plus their new texts; a
+ * column the old side lacks as text is counted over the new table.
+ */
+async function deliveredTextTypes(
+  session: Session,
+  work: {
+    oldInfo: ColumnInfo[];
+    newInfo: ColumnInfo[];
+    key: readonly string[];
+    commonNames: string[];
+    rowsWork: string;
+    newTable: string;
+    oldFits: ReadonlyMap<string, TypeFits>;
+  },
+): Promise<{ old: Map<string, ValueType>; new: Map<string, ValueType> }> {
+  const old = new Map<string, ValueType>();
+  for (const [column, fits] of work.oldFits) old.set(column, detectedType(fits, false));
+  const text = work.newInfo.filter((c) => c.type === 'VARCHAR' && !work.key.includes(c.name)).map((c) => c.name);
+  const fromOld = text.filter((c) => work.oldFits.has(c) && work.commonNames.includes(c));
+  const counted = text.filter((c) => !fromOld.includes(c));
+  const rows = ident(work.rowsWork);
+  const deltas = fromOld.map((c) => {
+    const i = work.commonNames.indexOf(c);
+    // On an added or removed row the missing side is null, so s_i holds wherever the row has a value.
+    return `SELECT "ov${i}" AS v, -1 AS k FROM ${rows} WHERE NOT "added" AND "s${i}"
+            UNION ALL SELECT "nv${i}" AS v, 1 AS k FROM ${rows} WHERE NOT "removed" AND "s${i}"`;
+  });
+  const full = counted.map((c) => `SELECT ${ident(c)} AS v, count(*) AS k FROM ${ident(work.newTable)} GROUP BY ALL`);
+  const fits = await countTypeFits(session, [...deltas, ...full]);
+  const types = new Map<string, ValueType>();
+  fromOld.forEach((c, i) => types.set(c, detectedType(addTypeFits(work.oldFits.get(c)!, fits[i]), false)));
+  counted.forEach((c, i) => types.set(c, detectedType(fits[fromOld.length + i], false)));
+  return { old, new: types };
 }
 
 /** Key columns match across sides; compared as text when their types differ (e.g. 42 and "42"). */
@@ -115,9 +180,9 @@ function sameKey(k: string, oldColumn: ColumnInfo, newColumn: ColumnInfo): strin
 }
 
 /** SQL that is true when a cell changed: null-safe, typed, numbers within tolerance equal. */
-function differs(newColumn: Compared, oldColumn: Compared, tolerance?: number): string {
-  const o = comparable(`o.${ident(oldColumn.name)}`, oldColumn, newColumn.as);
-  const n = comparable(`n.${ident(newColumn.name)}`, newColumn, oldColumn.as);
+function differs(oldValue: string, newValue: string, oldColumn: Compared, newColumn: Compared, tolerance?: number): string {
+  const o = comparable(oldValue, oldColumn, newColumn.as);
+  const n = comparable(newValue, newColumn, oldColumn.as);
   const bothNumeric = NUMERIC.has(oldColumn.as) && NUMERIC.has(newColumn.as);
   const typed =
     bothNumeric && tolerance !== undefined && tolerance > 0
@@ -125,7 +190,7 @@ function differs(newColumn: Compared, oldColumn: Compared, tolerance?: number): 
       : `(${o}) IS DISTINCT FROM (${n})`;
   // Equal stored values are equal under any comparison, so the typed one runs only where they differ.
   if (oldColumn.type !== newColumn.type) return typed;
-  return `(CASE WHEN o.${ident(oldColumn.name)} IS NOT DISTINCT FROM n.${ident(newColumn.name)} THEN false ELSE (${typed}) END)`;
+  return `(CASE WHEN ${oldValue} IS NOT DISTINCT FROM ${newValue} THEN false ELSE (${typed}) END)`;
 }
 
 /**

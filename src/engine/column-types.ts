@@ -173,47 +173,35 @@ export async function decideColumnTypes(
   const columns = await columnsOf(session, table);
   const text = columns.filter((c) => c.type === 'VARCHAR' && (!options.only || options.only.has(c.name))).map((c) => c.name);
   if (text.length === 0) return [];
-  // Each check runs once per distinct value (weighted by its count), not once per row: coded
-  // columns have few distinct values, and the checks cost more than the grouping.
   // A checked single-column key holds each value once: grouping it would only cost time (0.2 s a million rows).
   const distinctByKey = options.keyChecked && key.length === 1 ? key[0] : null;
-  const perColumn = text.map((name, i) => {
-    const checks = [
-      ...DETECTION_ORDER.map((type) => `COALESCE(sum(k) FILTER (WHERE ${TEXT_FITS[type]('v')}), 0) AS "${type}"`),
-      `COALESCE(sum(k) FILTER (WHERE ${DETECTS_AS.number('v')}), 0) AS "exactnumber"`,
-    ];
-    const grouped = options.grouped?.get(name);
-    const values = grouped
-      ? `SELECT ${ident(name)} AS v, ${ident(rowsColumn(name))} AS k FROM ${ident(grouped)}`
-      : `SELECT ${ident(name)} AS v, ${name === distinctByKey ? '1 AS k' : `count(*) AS k`} FROM ${ident(table)}${name === distinctByKey ? '' : ' GROUP BY ALL'}`;
-    return `SELECT ${i} AS i, COALESCE(sum(k) FILTER (WHERE v IS NOT NULL), 0) AS n, ${checks.join(', ')}
-      FROM (${values})`;
-  });
-  const rows = await session.all<Record<string, number | bigint>>(perColumn.join('\nUNION ALL\n'));
-  const counts: Record<string, number> = {};
-  for (const row of rows) {
-    const i = Number(row.i);
-    for (const [name, value] of Object.entries(row)) if (name !== 'i') counts[`${name}${i}`] = Number(value);
-  }
+  const counted = await countTypeFits(
+    session,
+    text.map((name) => {
+      const grouped = options.grouped?.get(name);
+      if (grouped) return `SELECT ${ident(name)} AS v, ${ident(rowsColumn(name))} AS k FROM ${ident(grouped)}`;
+      return `SELECT ${ident(name)} AS v, ${name === distinctByKey ? '1 AS k' : `count(*) AS k`} FROM ${ident(table)}${name === distinctByKey ? '' : ' GROUP BY ALL'}`;
+    }),
+  );
   const result: ColumnTyping[] = [];
   for (const [i, column] of text.entries()) {
-    const n = Number(counts[`n${i}`]);
-    const fits = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type}${i}`]);
-    const detects = (type: Exclude<ValueType, 'string'>) => Number(counts[`${type === 'number' && preserveText ? 'exactnumber' : type}${i}`]);
+    const counts = counted[i];
+    const n = counts.n;
+    const fits = (type: Exclude<ValueType, 'string'>) => counts[type];
     const wantedType = declared.get(column);
     let typing: ColumnTyping;
     if (wantedType) {
       const misfits = wantedType === 'string' ? 0 : n - fits(wantedType);
       typing = { column, declared: wantedType, type: misfits === 0 ? wantedType : 'string', misfits, wanted: misfits ? wantedType : undefined, examples: [] };
     } else {
-      const full = n > 0 ? DETECTION_ORDER.find((type) => detects(type) === n) : undefined;
+      const full = detectedType(counts, preserveText);
       // Every value is a number, but some would print differently (66.0 as 66): keep the text, say so.
-      const rewritten = !full && n > 0 && fits('number') === n;
-      const mostly = full || rewritten ? undefined : DETECTION_ORDER.find((type) => n > 0 && fits(type) >= MOSTLY * n);
+      const rewritten = full === 'string' && n > 0 && fits('number') === n;
+      const mostly = full !== 'string' || rewritten ? undefined : DETECTION_ORDER.find((type) => n > 0 && fits(type) >= MOSTLY * n);
       typing = {
         column,
-        type: full ?? 'string',
-        misfits: rewritten ? n - detects('number') : mostly ? n - fits(mostly) : 0,
+        type: full,
+        misfits: rewritten ? n - (preserveText ? counts.exactnumber : counts.number) : mostly ? n - fits(mostly) : 0,
         wanted: rewritten ? 'number' : mostly,
         rewritten: rewritten || undefined,
         examples: [],
@@ -227,6 +215,67 @@ export async function decideColumnTypes(
     result.push(typing);
   }
   return result;
+}
+
+/**
+ * How many of a column's non-missing values fit each type; `exactnumber` counts the numbers that
+ * also print back exactly as written (DETECTS_AS). Counts add up: the counts of two sets of rows are
+ * the sums of theirs, which lets a diff work out one side's from the other's and the rows that differ.
+ */
+export interface TypeFits {
+  n: number;
+  integer: number;
+  number: number;
+  boolean: number;
+  date: number;
+  exactnumber: number;
+}
+
+/**
+ * Count type fits for each source: a query giving values `v` with weights `k` (the rows holding each
+ * value, or a negative weight to take rows away). Each check runs once per distinct value, not once
+ * per row where the source groups them: coded columns have few distinct values, and the checks cost
+ * more than the grouping. All sources are counted in one query.
+ */
+export async function countTypeFits(session: Session, sources: readonly string[]): Promise<TypeFits[]> {
+  if (sources.length === 0) return [];
+  const checks = [
+    ...DETECTION_ORDER.map((type) => `COALESCE(sum(k) FILTER (WHERE ${TEXT_FITS[type]('v')}), 0) AS "${type}"`),
+    `COALESCE(sum(k) FILTER (WHERE ${DETECTS_AS.number('v')}), 0) AS "exactnumber"`,
+  ];
+  const perSource = sources.map((values, i) => `SELECT ${i} AS i, COALESCE(sum(k) FILTER (WHERE v IS NOT NULL), 0) AS n, ${checks.join(', ')} FROM (${values})`);
+  const rows = await session.all<Record<string, number | bigint>>(perSource.join('\nUNION ALL\n'));
+  const result: TypeFits[] = [];
+  for (const row of rows) {
+    result[Number(row.i)] = {
+      n: Number(row.n),
+      integer: Number(row.integer),
+      number: Number(row.number),
+      boolean: Number(row.boolean),
+      date: Number(row.date),
+      exactnumber: Number(row.exactnumber),
+    };
+  }
+  return result;
+}
+
+/** The first type every value fits (string when none, or when there are no values). */
+export function detectedType(fits: TypeFits, preserveText: boolean): ValueType {
+  if (fits.n <= 0) return 'string';
+  const detects = (type: Exclude<ValueType, 'string'>) => (type === 'number' && preserveText ? fits.exactnumber : fits[type]);
+  return DETECTION_ORDER.find((type) => detects(type) === fits.n) ?? 'string';
+}
+
+/** The sum of two sets of counts (see TypeFits). */
+export function addTypeFits(a: TypeFits, b: TypeFits): TypeFits {
+  return {
+    n: a.n + b.n,
+    integer: a.integer + b.integer,
+    number: a.number + b.number,
+    boolean: a.boolean + b.boolean,
+    date: a.date + b.date,
+    exactnumber: a.exactnumber + b.exactnumber,
+  };
 }
 
 async function misfitExamples(session: Session, table: string, key: readonly string[], column: string, misfit: string) {

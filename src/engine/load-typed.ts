@@ -1,8 +1,9 @@
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { applyColumnTypes, decideColumnTypes, decideFromGroups, type TextColumns, type ValueType } from './column-types.js';
+import { applyColumnTypes, countTypeFits, decideFromGroups, type TextColumns, type TypeFits, type ValueType } from './column-types.js';
 import { assertKeyValid } from './keys.js';
-import { formatOf, loadFile, type FileFormat } from './load-table.js';
+import { columnsOf, formatOf, loadFile, type FileFormat } from './load-table.js';
+import { ident } from './sql.js';
 import type { Session } from './session.js';
 
 interface LoadFileOptions {
@@ -12,17 +13,27 @@ interface LoadFileOptions {
 }
 
 /**
- * Load a file outside any project for a diff (`diff --files`): read as text, the key checked, and
- * each column's type decided over every value. The table stays text and the decided types are only
- * returned: a diff compares by them but shows the text delivered.
+ * Load a file outside any project for a diff (`diff --files`): read as text and the key checked. The
+ * table stays text: a diff compares by types decided over each whole column but shows the text
+ * delivered. With `countTypes`, the type fits of each text column that is not a key are counted and
+ * returned (key columns are matched as text and never compared).
  */
-export async function loadTypedFile(session: Session, file: string, target: string, options: LoadFileOptions = {}): Promise<Map<string, ValueType>> {
-  // A keyed diff names rows by key, so the file may load in any order (see LoadOptions.anyOrder).
-  const { columns, key } = await loadCheckedFile(session, file, target, options, (options.key ?? []).length > 0);
-  const typings = await decideColumnTypes(session, target, key, new Map(), { preserveText: false, keyChecked: key.length > 0 });
-  const types = new Map<string, ValueType>(columns.map((c) => [c, 'string']));
-  for (const t of typings) types.set(t.column, t.type);
-  return types;
+export async function loadComparedFile(
+  session: Session,
+  file: string,
+  target: string,
+  options: LoadFileOptions & { countTypes: boolean },
+): Promise<Map<string, TypeFits>> {
+  // A diff names rows by key, or counts them without any identity: the file may load in any order
+  // (see LoadOptions.anyOrder).
+  const { key } = await loadCheckedFile(session, file, target, options, true);
+  if (!options.countTypes) return new Map();
+  const compared = (await columnsOf(session, target)).filter((c) => c.type === 'VARCHAR' && !key.includes(c.name)).map((c) => c.name);
+  const fits = await countTypeFits(
+    session,
+    compared.map((c) => `SELECT ${ident(c)} AS v, count(*) AS k FROM ${ident(target)} GROUP BY ALL`),
+  );
+  return new Map(compared.map((c, i) => [c, fits[i]]));
 }
 
 /**

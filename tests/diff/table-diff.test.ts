@@ -129,6 +129,82 @@ describe('keyed diff against an independent SQL oracle', () => {
     expect(expected.cells.length).toBeGreaterThan(5);
   });
 
+  it('decides each side\'s column types over the whole column, whichever rows were added, removed or changed', async () => {
+    // Each side's type by the rule errata documents (every non-missing value an integer, else every
+    // one a number, else text), worked out here by plain SQL over each file alone. A cell is changed
+    // when its texts differ, unless both sides are numeric and the values are equal (1.0 and 1).
+    const integer = '-?(0|[1-9][0-9]*)';
+    const number = '-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?';
+    const columns = ['a', 'b', 'c'];
+    let flips = 0;
+    for (let seed = 11; seed <= 30; seed += 1) {
+      const rand = random(seed);
+      // Odd values (text, halves) are rare, so that adding, removing or changing one row can move a
+      // whole column from one type to another; added rows carry more of them.
+      const value = (odd = 0.002): string | null => {
+        const r = rand();
+        if (r < odd) return 'n/a';
+        if (r < odd + 0.01) return null;
+        if (r < 2 * odd + 0.01) return `${Math.floor(rand() * 50)}.5`;
+        return String(Math.floor(rand() * 50));
+      };
+      const oldRows: Row[] = [];
+      for (let i = 0; i < 150; i += 1) oldRows.push({ id: String(i), a: value(), b: value(), c: value() });
+      // Row 0 holds the only text in c, unless some other row has one; it is removed half the time.
+      oldRows[0].c = 'n/a';
+      const newRows: Row[] = [];
+      for (const row of oldRows) {
+        if (rand() < (row.id === '0' ? 0.5 : 0.1)) continue;
+        const copy = { ...row };
+        for (const c of columns) {
+          const r = rand();
+          if (r < 0.05) copy[c] = value(0.1);
+          else if (r < 0.08 && copy[c] !== null && /^[0-9]+$/.test(copy[c]!)) copy[c] = `${copy[c]}.0`;
+        }
+        newRows.push(copy);
+      }
+      for (let i = 0; i < 10; i += 1) newRows.push({ id: String(1000 + i), a: value(0.03), b: value(0.03), c: value(0.03) });
+      const oldFile = path.join(dir, `types-old-${seed}.csv`);
+      const newFile = path.join(dir, `types-new-${seed}.csv`);
+      writeFileSync(oldFile, csv(['id', ...columns], oldRows));
+      writeFileSync(newFile, csv(['id', ...columns], newRows));
+
+      const db = await DuckDBInstance.create(':memory:');
+      const conn = await db.connect();
+      const typeOf = async (file: string, column: string) => {
+        const [row] = (
+          await conn.runAndReadAll(`SELECT bool_and(regexp_full_match("${column}", '${integer}')) AS i, bool_and(regexp_full_match("${column}", '${number}')) AS n
+            FROM read_csv('${file}', header = true, all_varchar = true, allow_quoted_nulls = false) WHERE "${column}" IS NOT NULL`)
+        ).getRowObjectsJS();
+        return row.i ? 'integer' : row.n ? 'number' : 'string';
+      };
+      const types: Record<string, { old: string; new: string }> = {};
+      for (const c of columns) types[c] = { old: await typeOf(oldFile, c), new: await typeOf(newFile, c) };
+      db.closeSync();
+      const numeric = (t: string) => t === 'integer' || t === 'number';
+      const expectedCells: Array<{ key: string; column: string; old: string | null; new: string | null }> = [];
+      const oldById = new Map(oldRows.map((r) => [r.id!, r]));
+      for (const row of newRows) {
+        const before = oldById.get(row.id!);
+        if (!before) continue;
+        for (const c of columns) {
+          const [o, n] = [before[c], row[c]];
+          if (o === n) continue;
+          if (o !== null && n !== null && numeric(types[c].old) && numeric(types[c].new) && Number(o) === Number(n)) continue;
+          expectedCells.push({ key: row.id!, column: c, old: o, new: n });
+        }
+      }
+      const retyped = columns.filter((c) => types[c].old !== types[c].new).map((c) => ({ column: c, from: types[c].old, to: types[c].new }));
+      flips += retyped.length;
+
+      const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+      expect(diff.retyped, `seed ${seed}`).toEqual(retyped);
+      expect(sortCells(diff.cells), `seed ${seed}`).toEqual(sortCells(expectedCells));
+    }
+    // The pairs must really move columns between types, or this test checks nothing.
+    expect(flips).toBeGreaterThanOrEqual(3);
+  });
+
   it('counts numbers within --tolerance as equal and others as changed', async () => {
     const oldFile = path.join(dir, 'tol-old.csv');
     const newFile = path.join(dir, 'tol-new.csv');
