@@ -11,6 +11,7 @@ import { VERSION } from '../version.js';
 import { faultPoint } from '../fault.js';
 import type { ProjectBuild, TableBuild } from './build-project.js';
 import { sha256Of, sha256OfFile } from './hash.js';
+import { LINEAGE_COLUMNS } from '../corrections/apply-corrections.js';
 import { MANIFEST_FILE, parseManifest, renderManifest, type Manifest, type TableManifest } from './manifest.js';
 import { processAlive } from '../process-alive.js';
 
@@ -81,7 +82,7 @@ async function stageTable(build: ProjectBuild, table: TableBuild, stageDir: stri
   const select = table.columns.map((c) => `${cellSql(`src.${ident(c.name)}`, c.type, guarded.has(c.name))} AS ${ident(c.name)}`).join(', ');
   await session.run(`COPY (SELECT ${select} FROM ${ident(table.cleanTable)} AS src ORDER BY ${keyOrder(table.config.key, 'src')})
     TO ${literal(dataFile)} (FORMAT csv, HEADER true, DELIMITER ',', QUOTE '"', ESCAPE '"', NULL '', NEW_LINE '\\n')`);
-  await session.run(`COPY (SELECT * FROM ${ident(table.lineageTable)}
+  await session.run(`COPY (SELECT ${LINEAGE_COLUMNS.map((c) => ident(c)).join(', ')} FROM ${ident(table.lineageTable)}
       ORDER BY "correction", "step", "key" NULLS FIRST, "column" NULLS FIRST, "change")
     TO ${literal(lineageFile)} (FORMAT parquet, COMPRESSION zstd, ROW_GROUP_SIZE 1000000)`);
   const records = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(table.lineageTable)}`);

@@ -109,7 +109,7 @@ async function renamedColumns(session: Session, lineage: string): Promise<Record
     `SELECT "change", "column", "old", "new"
      FROM ${ident(lineage)}
      WHERE "change" = 'column-renamed' OR ("change" = 'column-added' AND "old" IS NOT NULL)
-     ORDER BY rowid`,
+     ORDER BY "entry"`,
   );
   const origin = new Map<string, string>();
   for (const e of events) {
