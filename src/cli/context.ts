@@ -1,3 +1,4 @@
+import { existsSync } from 'node:fs';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { findRepoRoot } from '../git/repo.js';
@@ -19,6 +20,12 @@ export async function projectRoot(start = process.cwd()): Promise<string> {
 export async function projectTree(root: string, revision?: string): Promise<ProjectTree> {
   if (!revision) return new WorkingTree(root);
   return RevisionTree.at(root, revision, path.join(root, '.errata', 'cache', 'blobs'));
+}
+
+/** The .errata/tmp of the project the command runs in, or undefined outside any errata project. */
+export async function projectWorkDir(start = process.cwd()): Promise<string | undefined> {
+  const root = await findRepoRoot(start);
+  return root && existsSync(path.join(root, 'errata.yaml')) ? workDir(root) : undefined;
 }
 
 /** Scratch space for the engine and for staging outputs: .errata/tmp, or a temporary folder in a read-only checkout. */

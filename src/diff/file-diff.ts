@@ -13,12 +13,17 @@ export interface FileDiffOptions {
   tolerance?: number;
   cellLimit?: number;
   memoryLimit?: string;
-  spillDir?: string;
+  /**
+   * Where DuckDB may spill: a folder of this process's own is made under it and removed afterwards.
+   * The command line gives the project's .errata/tmp when run inside a project; default: the system's
+   * temporary folder.
+   */
+  workDir?: string;
 }
 
 /** Diff two files outside any project (`errata diff --files OLD NEW`). */
 export async function diffFiles(oldFile: string, newFile: string, options: FileDiffOptions): Promise<TableDiff | MultisetDiff> {
-  const spillDir = options.spillDir ?? path.join(os.tmpdir(), `errata-spill-${process.pid}`);
+  const spillDir = path.join(options.workDir ?? os.tmpdir(), `errata-spill-${process.pid}`);
   // DuckDB's limit covers its buffers, not everything the process holds: with 1.5 GB a diff of two
   // 10,000,000-row files peaked at 1.85 GB in all (2.5 GB with a 2 GB limit).
   const session = await Session.open({ memoryLimit: options.memoryLimit ?? '1.5GB', spillDir });
@@ -39,6 +44,6 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
     });
   } finally {
     session.close();
-    if (!options.spillDir) rmSync(spillDir, { recursive: true, force: true });
+    rmSync(spillDir, { recursive: true, force: true });
   }
 }

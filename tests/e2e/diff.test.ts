@@ -144,3 +144,24 @@ describe('git-setup', () => {
     }
   });
 });
+
+describe('diff --files and scratch space', () => {
+  it('inside a project spills under .errata/tmp in a folder of its own, removed afterwards; outside one it leaves nothing behind', async () => {
+    const root = await makeProject({ 'errata.yaml': 'tables:\n  people:\n    raw: raw/people\n    key: id\n' });
+    const outside = tempDir();
+    try {
+      for (const dir of [root, outside]) writeFiles(dir, { 'old.csv': FIRST, 'new.csv': SECOND });
+      for (const cwd of [root, outside]) {
+        const result = await errata(cwd, ['diff', '--files', 'old.csv', 'new.csv', '--key', 'id', '--format', 'json', '--summary']);
+        expect(result.stderr).toBe('');
+        // By hand: id 3 removed, ids 4 and 5 added, ids 1 and 2 the same.
+        expect(JSON.parse(result.stdout).rows).toEqual({ added: 2, removed: 1, changed: 0, unchanged: 2 });
+      }
+      expect(readdirSync(path.join(root, '.errata', 'tmp')).filter((name) => name.startsWith('errata-spill-'))).toEqual([]);
+      expect(readdirSync(outside).sort()).toEqual(['new.csv', 'old.csv']);
+    } finally {
+      removeDir(root);
+      removeDir(outside);
+    }
+  });
+});

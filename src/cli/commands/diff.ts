@@ -10,7 +10,7 @@ import { renderDiffText, renderMultisetText } from '../../render/diff-text.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { resolveRevision } from '../../git/repo.js';
 import { diffCache, tableCache } from '../build-session.js';
-import { projectRoot, projectTree, workDir } from '../context.js';
+import { projectRoot, projectTree, projectWorkDir, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
 import { writeFileAtomically } from '../write-file.js';
@@ -61,7 +61,7 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
         if (options.key === undefined) throw usage('--files needs --key COL[,COL] (or --no-key to compare rows without a key)');
         const key = options.key === false ? [] : options.key.split(',').map((k) => k.trim()).filter(Boolean);
         output.progress('diffing files…');
-        const result = await diffFiles(options.files[0], options.files[1], { key, tolerance, cellLimit: limit });
+        const result = await diffFiles(options.files[0], options.files[1], { key, tolerance, cellLimit: limit, workDir: await projectWorkDir() });
         output.endProgress();
         emit(renderFileDiff(result, options, output.color));
         if (options.exitCode && hasDifferences(result)) setExit(1);
