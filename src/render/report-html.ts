@@ -42,11 +42,11 @@ const plural = (count: number, one: string, many = `${one}s`) => `${count.toLoca
  *   writeFileSync('report.html', renderReportHtml(await gatherReport({ root, range, cellLimit, workDir })));
  */
 export function renderReportHtml(data: ReportData, options: ReportHtmlOptions = {}): string {
-  const budget = { left: options.cellLimit ?? REPORT_CELL_LIMIT };
+  const embedded = embeddedCells(data, options.cellLimit ?? REPORT_CELL_LIMIT);
   const range = `${short(data.range.base)}..${short(data.range.head)}`;
   const title = `errata report ${range}`;
   const scriptHash = createHash('sha256').update(REPORT_SCRIPT).digest('base64');
-  const diffs = data.diffs.map((d, i) => renderDiff(d, i, data, budget));
+  const diffs = data.diffs.map((d, i) => renderDiff(d, i, data, embedded[i]));
   return `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1">
 <meta http-equiv="Content-Security-Policy" content="default-src 'none'; style-src 'unsafe-inline'; script-src 'sha256-${scriptHash}'">
@@ -71,7 +71,7 @@ ${renderOverview(data)}
 ${renderReview(data)}
 ${data.tables.map((t, i) => renderProfile(t, i)).join('\n')}
 ${diffs.join('\n')}
-${renderAudit(data)}
+${renderAudit(data, embedded)}
 ${renderNotes(data.notes)}
 </main>
 <script>${REPORT_SCRIPT}</script>
@@ -249,10 +249,18 @@ function flagList(column: ColumnComparison): string {
 
 // ── diff ───────────────────────────────────────────────────────────────────────────────────────────
 
-function renderDiff(diff: TableDiff, index: number, data: ReportData, budget: { left: number }): string {
+/** The changed cells each diff embeds in the page: in table order, until `limit` cells in all. */
+function embeddedCells(data: ReportData, limit: number): CellChange[][] {
+  let left = limit;
+  return data.diffs.map((diff) => {
+    const cells = diff.cells.slice(0, Math.max(0, left));
+    left -= cells.length;
+    return cells;
+  });
+}
+
+function renderDiff(diff: TableDiff, index: number, data: ReportData, embedded: CellChange[]): string {
   const id = `diff-${index + 1}`;
-  const embedded = diff.cells.slice(0, Math.max(0, budget.left));
-  budget.left -= embedded.length;
   const total = diff.summary.cells.changed;
   const columns = [...new Set(embedded.map((c) => c.column))].sort();
   const corrections = [...new Set(embedded.map((c) => c.correction).filter((c): c is string => Boolean(c)))].sort();
@@ -309,11 +317,12 @@ function staticRow(c: CellChange, attributed: boolean): string {
 
 // ── audit trail and notes ──────────────────────────────────────────────────────────────────────────
 
-function renderAudit(data: ReportData): string {
+function renderAudit(data: ReportData, embedded: CellChange[][]): string {
   const notes = new Set(data.notes.map((n) => n.id));
   const diffIds = new Map(data.diffs.map((d, i) => [d.table, `diff-${i + 1}`]));
-  // Which corrections changed cells of each table's diff, gathered once rather than per audit entry.
-  const inDiff = new Set(data.diffs.flatMap((d) => d.cells.map((c) => `${d.table}\u0000${c.correction}`)));
+  // Which corrections changed cells the page holds, gathered once rather than per audit entry: a
+  // link to a correction whose cells were not embedded would show an empty table.
+  const inDiff = new Set(data.diffs.flatMap((d, i) => embedded[i].map((c) => `${d.table}\u0000${c.correction}`)));
   const rows = data.audit.map((e: AuditEntry) => {
     const approval = !e.approval ? '✗ none' : notes.has(e.approval) ? `<a href="#note-${h(e.approval)}">${h(e.approval)}</a>` : `${h(e.approval)} (✗ note not found)`;
     const approver = e.approver ? `${h(e.approverName ?? e.approver)}${e.approvedOn ? `<br><small>on ${h(e.approvedOn)}</small>` : ''}` : '—';

@@ -78,6 +78,21 @@ describe('report page', () => {
     expect(html).toContain('errata diff aaaaaaa..bbbbbbb visits --format json');
   });
 
+  it('links an audit entry to its cells only when the page holds some of them', () => {
+    // 25 cells embedded of 30: the first 25 come from 0001-first, the last 5 from 0002-later, which
+    // the page therefore does not hold.
+    const cells = Array.from({ length: 30 }, (_, i) => ({ key: String(i), column: 'w', old: '1', new: '2', correction: i < 25 ? '0001-first.yaml' : '0002-later.yaml' }));
+    const entry = (correction: string) => ({
+      table: 'visits', correction, file: `corrections/visits/${correction}`, reason: 'r', approval: null, approver: null, approverName: null, approvedOn: null,
+      commit: null, author: null, date: null, steps: 1, cellsChanged: 1, cellsByColumn: { w: 1 }, rowsDeleted: 0, columnEvents: [],
+    });
+    const data = { ...report(diffOf(cells)), audit: [entry('0001-first.yaml'), entry('0002-later.yaml')] };
+    const html = renderReportHtml(data, { cellLimit: 25 });
+    expect(html).toContain('data-show-correction="0001-first.yaml"');
+    expect(html).not.toContain('data-show-correction="0002-later.yaml"');
+    expect(renderReportHtml(data, { cellLimit: 30 })).toContain('data-show-correction="0002-later.yaml"');
+  });
+
   it('marks old and new values with symbols and words, not colour alone, and uses real table headers', () => {
     const html = renderReportHtml(report(diffOf([{ key: '1', column: 'w', old: null, new: '', correction: null }])));
     expect(html).toContain('<th scope="col">Old (−)</th><th scope="col">New (+)</th>');
