@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { closeSync, existsSync, mkdirSync, openSync, readSync, readdirSync, renameSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, renameSync, rmSync } from 'node:fs';
 import { faultPoint } from '../fault.js';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
@@ -59,50 +59,9 @@ async function loadCached(
     }
   }
   const localPath = await tree.localPath(input.name);
-  // In CSV a NUL in a value is a NUL byte in the file, and scanning the bytes takes a fraction of the
-  // table scan (0.3 s a million rows); JSON lines can spell one as an escape, so they are always scanned.
-  // A file that may hold one is read in file order, so the record holding it can be named.
-  const mayHoldNul = input.format === 'jsonl' || ((input.format === 'csv' || input.format === 'tsv') && fileHoldsNulByte(localPath));
-  const columns = await loadFile(session, { ...input, localPath }, target, { anyOrder: order === 'any' && !mayHoldNul });
-  if (mayHoldNul) await assertNoNulBytes(session, target, columns, input.name, input.format === 'jsonl' ? 0 : 1);
+  const columns = await loadFile(session, { ...input, localPath }, target, { anyOrder: order === 'any' });
   if (cached && cache?.write && input.format !== 'parquet') await writeCacheEntry(session, target, cached);
   return columns;
-}
-
-/**
- * A NUL byte is no character any survey or lab system means to deliver: it marks a damaged file, and
- * would travel on into the clean CSV, where many programs stop reading at it.
- */
-async function assertNoNulBytes(session: Session, table: string, columns: readonly string[], file: string, headerLines: number): Promise<void> {
-  if (columns.length === 0) return;
-  // rowid of a table created from a file is the record's position in it.
-  const rows = await session.all<Record<string, unknown> & { __errata_row: bigint }>(`
-    SELECT rowid AS "__errata_row", * FROM ${ident(table)}
-    WHERE ${columns.map((c) => `contains(${ident(c)}, chr(0))`).join(' OR ')}
-    ORDER BY rowid
-    LIMIT 1`);
-  if (rows.length === 0) return;
-  const row = Number(rows[0].__errata_row) + 1;
-  const column = columns.find((c) => String(rows[0][c] ?? '').includes('\0'));
-  throw new ErrataError('CSV_MALFORMED', `record ${row} holds a NUL byte in column "${column}"`, {
-    hint: 'The file is damaged or not text; ask for it to be exported again and deliver it as a new raw file.',
-    data: { file, line: row + headerLines, column },
-  });
-}
-
-/** Whether any byte of the file is 0, read in blocks. */
-function fileHoldsNulByte(file: string): boolean {
-  const block = Buffer.allocUnsafe(4 << 20);
-  const fd = openSync(file, 'r');
-  try {
-    for (;;) {
-      const read = readSync(fd, block, 0, block.length, null);
-      if (read === 0) return false;
-      if (block.subarray(0, read).includes(0)) return true;
-    }
-  } finally {
-    closeSync(fd);
-  }
 }
 
 async function writeCacheEntry(session: Session, table: string, cached: string): Promise<void> {

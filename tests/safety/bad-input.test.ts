@@ -89,6 +89,27 @@ describe('malformed CSV', () => {
     expect(error?.message).toMatch(/NUL byte in column "x"/);
   });
 
+  it('a NUL byte is refused with its line by every command that reads a file outside a project', async () => {
+    const outside = tempDir();
+    try {
+      // Line 1 header, line 2 id 1, line 3 id 2 holding the NUL in x.
+      writeFiles(outside, { 'a.csv': Buffer.from('id,x\n1,a\n2,b\u0000c\n'), 'b.csv': 'id,x\n1,a\n2,bc\n', 'book.yaml': 'fields:\n  - name: id\n  - name: x\n' });
+      for (const args of [
+        ['profile', '--files', 'a.csv'],
+        ['check', '--files', 'a.csv', '--codebook', 'book.yaml'],
+        ['diff', '--files', 'a.csv', 'b.csv', '--key', 'id'],
+        ['diff', '--files', 'b.csv', 'a.csv', '--no-key'],
+      ]) {
+        const result = await errata(outside, args);
+        expect(result.code, args.join(' ')).toBe(2);
+        expect(result.stderr, args.join(' ')).toContain('a.csv:3');
+        expect(result.stderr, args.join(' ')).toMatch(/NUL byte in column "x"/);
+      }
+    } finally {
+      removeDir(outside);
+    }
+  });
+
   it('a quoted field may hold CR LF inside a file of LF lines', async () => {
     expect(await load('id,x\n1,"a\r\nb"\n2,c\n')).toEqual({ error: null, rows: 2 });
   });
