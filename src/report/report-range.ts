@@ -1,5 +1,6 @@
 import { ErrataError } from '../errors.js';
 import { commitLog, mainBranch, mergeBase, pathHistory, resolveRevision } from '../git/repo.js';
+import { splitRange } from '../git/range.js';
 import type { ReportRange } from './types.js';
 
 /**
@@ -16,11 +17,9 @@ import type { ReportRange } from './types.js';
  */
 export async function reportRange(root: string, range?: string): Promise<ReportRange> {
   if (range !== undefined) {
-    const parts = range.split(/\.\.\.?/);
-    if (parts.length !== 2) {
-      throw new ErrataError('USAGE', `--range takes BASE..HEAD, not "${range}"`, { hint: 'For example: errata report --range main..HEAD' });
-    }
-    return { base: await resolveRevision(root, parts[0] || 'HEAD'), head: await resolveRevision(root, parts[1] || 'HEAD'), choice: 'given' };
+    const split = splitRange(range, 'errata report --range main..HEAD');
+    if (!split) throw new ErrataError('USAGE', `--range takes BASE..HEAD, not "${range}"`, { hint: 'For example: errata report --range main..HEAD' });
+    return { base: await resolveRevision(root, split.base), head: await resolveRevision(root, split.head), choice: 'given' };
   }
   const head = await resolveRevision(root, 'HEAD');
   const main = await mainBranch(root);

@@ -1,6 +1,7 @@
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { diffFiles } from '../../diff/file-diff.js';
+import { splitRange } from '../../git/range.js';
 import { diffRevisions } from '../../diff/revision-diff.js';
 import type { MultisetDiff, TableDiff } from '../../diff/types.js';
 import { renderDiffHtml } from '../../render/diff-html.js';
@@ -106,10 +107,8 @@ function parseNumber(value: string | undefined, option: string): number | undefi
  */
 async function parseRange(root: string, range: string | undefined, table: string | undefined): Promise<{ base: string; head?: string; tableName?: string }> {
   if (range === undefined) return { base: 'HEAD', tableName: table };
-  if (range.includes('..')) {
-    const [base, head] = range.split(/\.\.\.?/);
-    return { base: base || 'HEAD', head: head || 'HEAD', tableName: table };
-  }
+  const split = splitRange(range, 'errata diff main..HEAD');
+  if (split) return { ...split, tableName: table };
   try {
     await resolveRevision(root, range);
     return { base: range, tableName: table };

@@ -1,6 +1,7 @@
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { mainBranch, mergeBase, resolveRevision } from '../../git/repo.js';
+import { splitRange } from '../../git/range.js';
 import { reviewRange } from '../../review/review-range.js';
 import { renderReview, reviewPassed, type ReviewFormat } from '../../render/review.js';
 import { reviewCache, tableCache } from '../build-session.js';
@@ -34,10 +35,8 @@ export function registerReview(program: Command, setExit: (code: number) => void
 }
 
 async function resolveRange(root: string, range: string | undefined): Promise<{ base: string; head: string }> {
-  if (range?.includes('..')) {
-    const [base, head] = range.split(/\.\.\.?/);
-    return { base: await resolveRevision(root, base || 'HEAD'), head: await resolveRevision(root, head || 'HEAD') };
-  }
+  const split = range === undefined ? null : splitRange(range, 'errata review main..HEAD');
+  if (split) return { base: await resolveRevision(root, split.base), head: await resolveRevision(root, split.head) };
   const head = await resolveRevision(root, range ?? 'HEAD');
   const main = await mainBranch(root);
   if (!main) {
