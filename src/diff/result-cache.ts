@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto';
-import { mkdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
+import { writeFileAtomically } from '../write-file.js';
 import { VERSION } from '../version.js';
 
 /**
@@ -33,20 +34,11 @@ export function readCachedResult<T>(cache: ResultCache, id: string): T | null {
   }
 }
 
-/** Keep an answer: written beside its place and renamed, so a reader never sees half an entry. */
+/** Keep an answer, written atomically so a reader never sees half an entry. */
 export function writeCachedResult(cache: ResultCache, id: string, value: unknown): void {
-  const file = path.join(cache.dir, `${id}.json`);
-  const temp = `${file}.${process.pid}.tmp`;
   try {
-    mkdirSync(cache.dir, { recursive: true });
-    writeFileSync(temp, JSON.stringify(value));
-    renameSync(temp, file);
+    writeFileAtomically(path.join(cache.dir, `${id}.json`), JSON.stringify(value));
   } catch {
     // A cache that cannot be written only costs time on the next run.
-    try {
-      rmSync(temp, { force: true });
-    } catch {
-      /* nothing was written */
-    }
   }
 }

@@ -1,9 +1,10 @@
 import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, mkdirSync, readdirSync, readFileSync, realpathSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { createReadStream, existsSync, readdirSync, readFileSync, realpathSync, statSync } from 'node:fs';
 import { ErrataError } from '../errors.js';
 import { writableDir } from '../scratch.js';
 import path from 'node:path';
 import { blobIdAt, listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
+import { writeFileAtomically } from '../write-file.js';
 
 /**
  * The project's files as they stand somewhere: the working tree, or a commit read straight from git
@@ -123,11 +124,7 @@ export class RevisionTree implements ProjectTree {
       const blob = await readBlobAt(this.root, this.commit, filepath);
       if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
       target = path.join(writableDir(this.blobDir), name);
-      if (!existsSync(target)) {
-        const temp = `${target}.${process.pid}.tmp`;
-        writeFileSync(temp, blob.content);
-        renameSync(temp, target);
-      }
+      if (!existsSync(target)) writeFileAtomically(target, blob.content, { hint: 'Check that .errata/tmp is writable and the disk not full.' });
     }
     return target;
   }

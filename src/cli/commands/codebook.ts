@@ -7,7 +7,7 @@ import { WorkingTree } from '../../git/tree.js';
 import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 interface DraftOptions {
   out?: string;

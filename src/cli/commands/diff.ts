@@ -14,7 +14,7 @@ import { diffCache, tableCache } from '../build-session.js';
 import { projectRoot, projectTree, projectWorkDir, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 type Format = 'text' | 'markdown' | 'json' | 'html';
 

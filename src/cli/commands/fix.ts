@@ -13,7 +13,7 @@ import { showValue } from '../../render/paint.js';
 import { buildWithProgress } from '../build-session.js';
 import { projectRoot } from '../context.js';
 import { createOutput } from '../output.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 interface FixOptions {
   set: string[];

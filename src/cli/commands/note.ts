@@ -8,7 +8,7 @@ import { composeNote } from '../../project/new-note.js';
 import { loadPeople } from '../../project/people.js';
 import { projectRoot } from '../context.js';
 import { createOutput } from '../output.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 interface NoteOptions {
   id: string;

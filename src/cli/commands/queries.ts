@@ -15,7 +15,7 @@ import { checkTarget, tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 interface ExportOptions {
   out: string;

@@ -8,7 +8,7 @@ import { REPORT_CELL_LIMIT, renderReportHtml } from '../../render/report-html.js
 import { tableCache } from '../build-session.js';
 import { projectRoot, workDir } from '../context.js';
 import { createOutput } from '../output.js';
-import { writeFileAtomically } from '../write-file.js';
+import { writeFileAtomically } from '../../write-file.js';
 
 interface ReportCommandOptions {
   out: string;

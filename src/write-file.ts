@@ -1,6 +1,6 @@
 import { mkdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
-import { ErrataError, type ErrorCode } from '../errors.js';
+import { ErrataError, type ErrorCode } from './errors.js';
 
 /**
  * Write a file a command produces: under a temporary name beside its place, then renamed, so that no
