@@ -25,13 +25,6 @@ export interface ProjectProfileOptions {
   memoryLimit?: string;
   cache?: RawCache;
   onProgress?: (event: ProfileProgress) => void;
-  /**
-   * For callers that want more from the same load and build (the report): runs with the deliveries
-   * loaded as text (after the session is locked down, before the raw profile) ...
-   */
-  withRaw?: (session: Session, prepared: PreparedProject) => Promise<void>;
-  /** ... and, when `clean` is asked for, with the clean tables built, after the clean profile. */
-  withClean?: (session: Session, prepared: PreparedProject, builds: TableBuild[]) => Promise<void>;
 }
 
 export interface ProjectTableProfile {
@@ -63,42 +56,62 @@ export async function profileProject(options: ProjectProfileOptions): Promise<Pr
   try {
     const prepared = await prepareProject(session, options.tree, { table: options.table, cache: options.cache, onProgress: options.onProgress });
     await session.lockDown([options.workDir]);
-    await options.withRaw?.(session, prepared);
-    const raw = new Map<string, TableProfile>();
-    if (options.raw) {
-      for (const { table, codebook } of prepared.tables) {
-        options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
-        const delivered = rawName(table, prepared.prefix);
-        // The key was checked on loading.
-        const { typings, text } = await decideFromGroups(session, delivered, table.key, declaredTypes(codebook));
-        // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
-        // the other columns' distinct values. The cast is made in a copy when the clean side still
-        // needs the delivery as text.
-        const keyTypings = typings.filter((t) => table.key.includes(t.column) && t.type !== 'string');
-        const copied = options.clean && keyTypings.length > 0;
-        const typed = copied ? `${prepared.prefix}profiled_raw_${table.name}` : delivered;
-        if (copied) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(delivered)}`);
-        await applyColumnTypes(session, typed, keyTypings);
-        raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, text }));
-        if (copied) await session.run(`DROP TABLE ${ident(typed)}`);
-        await dropGroupedColumns(session, text.grouped);
-      }
-    }
+    const raw = options.raw ? await profileLoadedTables(session, prepared, { keepText: options.clean, onProgress: options.onProgress }) : new Map<string, TableProfile>();
     const tables: ProjectTableProfile[] = prepared.tables.map(({ table }) => ({ name: table.name, raw: raw.get(table.name) ?? null, clean: null, renamed: {} }));
     if (!options.clean) return { tables, conflicts: [] };
     const builds = await correctProject(session, prepared, { keepRaw: false, onProgress: options.onProgress });
-    for (const [i, build] of builds.entries()) {
-      options.onProgress?.({ phase: 'profile', table: build.config.name, side: 'clean' });
-      tables[i].clean = await profileTable(session, build.cleanTable, { name: build.config.name, source: 'clean', key: build.config.key, codebook: build.codebook });
-      tables[i].renamed = await renamedColumns(session, build.lineageTable);
-    }
-    await options.withClean?.(session, prepared, builds);
+    const clean = await profileBuiltTables(session, builds, options.onProgress);
+    for (const [i, c] of clean.entries()) Object.assign(tables[i], c);
     return { tables, conflicts: builds.flatMap((b) => b.conflicts) };
   } finally {
     session.close();
   }
 }
 
+/**
+ * Profile each loaded delivery (the raw side), typed as the build types it: the codebook's declared
+ * types where every value fits, else what every value fits. `keepText`: the deliveries are built
+ * afterwards and must stay as delivered, so a key that takes a type is cast in a copy.
+ */
+export async function profileLoadedTables(
+  session: Session,
+  prepared: PreparedProject,
+  options: { keepText: boolean; onProgress?: (event: ProfileProgress) => void },
+): Promise<Map<string, TableProfile>> {
+  const raw = new Map<string, TableProfile>();
+  for (const { table, codebook } of prepared.tables) {
+    options.onProgress?.({ phase: 'profile', table: table.name, side: 'raw' });
+    const delivered = rawName(table, prepared.prefix);
+    // The key was checked on loading.
+    const { typings, text } = await decideFromGroups(session, delivered, table.key, declaredTypes(codebook));
+    // Only key columns are cast in the table (rows are named and ordered by them); the profile casts
+    // the other columns' distinct values.
+    const keyTypings = typings.filter((t) => table.key.includes(t.column) && t.type !== 'string');
+    const copied = options.keepText && keyTypings.length > 0;
+    const typed = copied ? `${prepared.prefix}profiled_raw_${table.name}` : delivered;
+    if (copied) await session.run(`CREATE OR REPLACE TABLE ${ident(typed)} AS SELECT * FROM ${ident(delivered)}`);
+    await applyColumnTypes(session, typed, keyTypings);
+    raw.set(table.name, await profileTable(session, typed, { name: table.name, source: 'raw', key: table.key, codebook, text }));
+    if (copied) await session.run(`DROP TABLE ${ident(typed)}`);
+    await dropGroupedColumns(session, text.grouped);
+  }
+  return raw;
+}
+
+/** Profile each built table (the clean side), with the raw column each renamed or converted column came from. */
+export async function profileBuiltTables(
+  session: Session,
+  builds: readonly TableBuild[],
+  onProgress?: (event: ProfileProgress) => void,
+): Promise<Array<Pick<ProjectTableProfile, 'clean' | 'renamed'>>> {
+  const result: Array<Pick<ProjectTableProfile, 'clean' | 'renamed'>> = [];
+  for (const build of builds) {
+    onProgress?.({ phase: 'profile', table: build.config.name, side: 'clean' });
+    const clean = await profileTable(session, build.cleanTable, { name: build.config.name, source: 'clean', key: build.config.key, codebook: build.codebook });
+    result.push({ clean, renamed: await renamedColumns(session, build.lineageTable) });
+  }
+  return result;
+}
 
 /**
  * Follow the lineage's column events in the order they applied, back from each final name to the raw

@@ -8,7 +8,9 @@ import { checkLoadedTables, type CheckTarget, type ProjectCheck } from '../check
 import { diffBuilt, type RevisionDiff } from '../diff/revision-diff.js';
 import { RevisionTree } from '../git/tree.js';
 import { compareProfiles } from '../profile/compare-profiles.js';
-import { profileProject } from '../profile/profile-project.js';
+import { profileBuiltTables, profileLoadedTables } from '../profile/profile-project.js';
+import type { TableProfile } from '../profile/types.js';
+import type { ProjectConfig } from '../project/config.js';
 import { loadNotes } from '../project/notes.js';
 import { loadPeople } from '../project/people.js';
 import { reviewRange } from '../review/review-range.js';
@@ -48,41 +50,18 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
   const headTree = await RevisionTree.at(root, range.head, blobs);
   const progress = (phase: ReportPhase) => (event: object) => options.onProgress?.({ phase, table: 'table' in event ? String(event.table) : undefined });
 
-  // The head is loaded and built once for its profile, checks and audit trail (the review below builds
-  // it again, beside the base).
+  // Everything is read from the two builds the review makes, in its session: the head's raw
+  // profile and checks once it is loaded, its clean profile, checks and audit trail and the diff
+  // once both ends are built.
   let rawCheck: ProjectCheck | null = null;
   let cleanCheck: ProjectCheck | null = null;
   let audit: AuditEntry[] = [];
+  let rawProfiles = new Map<string, TableProfile>();
+  let cleanProfiles: Array<{ name: string } & Awaited<ReturnType<typeof profileBuiltTables>>[number]> = [];
+  let headConfig: ProjectConfig | null = null;
   const notes = await loadNotes(headTree);
-  const profile = await profileProject({
-    tree: headTree,
-    raw: true,
-    clean: true,
-    workDir: options.workDir,
-    cache: options.cache,
-    onProgress: progress('profile'),
-    withRaw: async (session, prepared) => {
-      const targets = prepared.tables.map((t) => ({ config: t.table, codebook: t.codebook, table: rawName(t.table, prepared.prefix) }));
-      rawCheck = await checkOrNone(session, targets, { source: 'raw', onProgress: progress('check') });
-    },
-    withClean: async (session, prepared, builds) => {
-      const targets = builds.map((b) => ({ config: b.config, codebook: b.codebook, table: b.cleanTable }));
-      const conflicts = builds.flatMap((b) => b.conflicts);
-      cleanCheck = await checkOrNone(session, targets, { source: 'clean', conflicts, onProgress: progress('check') });
-      options.onProgress?.({ phase: 'audit' });
-      const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
-      audit = await auditTrail({ session, config: prepared.config, tables: builds, conflicts }, notes, await fileOrigins(headTree), people);
-    },
-  });
-  const tables = profile.tables.map((t) => ({
-    name: t.name,
-    comparison: compareProfiles(t.raw!, t.clean!, t.renamed),
-    discrepancies: countByRule(rawCheck, cleanCheck, t.name),
-  }));
-
-  // Both ends are built once, for the review, and diffed while they are (no review cache is passed,
-  // so the review always builds them).
   const built: { diff?: RevisionDiff } = {};
+  // No review cache is passed, so the review always builds both ends and runs these.
   const review = await reviewRange({
     root,
     base: range.base,
@@ -90,10 +69,28 @@ export async function gatherReport(options: GatherReportOptions): Promise<Report
     workDir: options.workDir,
     cache: options.cache,
     onProgress: progress('review'),
+    withLoaded: async (session, _base, head) => {
+      headConfig = head.config;
+      const targets = head.tables.map((t) => ({ config: t.table, codebook: t.codebook, table: rawName(t.table, head.prefix) }));
+      rawCheck = await checkOrNone(session, targets, { source: 'raw', onProgress: progress('check') });
+      rawProfiles = await profileLoadedTables(session, head, { keepText: true, onProgress: progress('profile') });
+    },
     withBuilt: async (session, base, head) => {
+      cleanProfiles = (await profileBuiltTables(session, head, progress('profile'))).map((p, i) => ({ name: head[i].config.name, ...p }));
+      const targets = head.map((b) => ({ config: b.config, codebook: b.codebook, table: b.cleanTable }));
+      const conflicts = head.flatMap((b) => b.conflicts);
+      cleanCheck = await checkOrNone(session, targets, { source: 'clean', conflicts, onProgress: progress('check') });
+      options.onProgress?.({ phase: 'audit' });
+      const people = new Map((await loadPeople(headTree)).map((p) => [p.id, p]));
+      audit = await auditTrail({ session, config: headConfig!, tables: head, conflicts }, notes, await fileOrigins(headTree), people);
       built.diff = await diffBuilt(session, base, head, { cellLimit: options.cellLimit, onProgress: progress('diff') });
     },
   });
+  const tables = cleanProfiles.map(({ name, clean, renamed }) => ({
+    name,
+    comparison: compareProfiles(rawProfiles.get(name)!, clean!, renamed),
+    discrepancies: countByRule(rawCheck, cleanCheck, name),
+  }));
   const { diff } = built;
   if (!diff) throw new Error('the review did not build both ends');
   return {

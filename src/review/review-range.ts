@@ -31,6 +31,8 @@ export interface ReviewOptions {
    * the review is read from its cache.
    */
   withBuilt?: (session: Session, base: TableBuild[], head: TableBuild[]) => Promise<void>;
+  /** Likewise, once both ends are loaded as delivered and before they are built (head prefixed h_). */
+  withLoaded?: (session: Session, base: PreparedProject | null, head: PreparedProject) => Promise<void>;
 }
 
 /**
@@ -67,6 +69,7 @@ async function reviewCommits(options: ReviewOptions): Promise<ReviewResult> {
     });
     const headPrepared: PreparedProject = await prepare(headTree, 'h_');
     await session.lockDown([options.workDir]);
+    await options.withLoaded?.(session, basePrepared, headPrepared);
     // Raw tables are needed only to credit a new delivery; when every input is the same blob at both
     // ends there is none, and the build need not keep them.
     const inputsOf = (p: PreparedProject | null) => JSON.stringify((p?.tables ?? []).map((t) => [t.table.name, t.inputs.map((i) => i.blob)]));
