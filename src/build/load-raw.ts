@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, readdirSync, renameSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
 import { faultPoint } from '../fault.js';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
@@ -9,7 +9,7 @@ import { assertKeyValid } from '../engine/keys.js';
 import type { Session } from '../engine/session.js';
 import type { ProjectTree } from '../git/tree.js';
 import type { TableConfig } from '../project/config.js';
-import { processAlive } from '../process-alive.js';
+import { removeAbandoned } from '../process-alive.js';
 import { canWriteTo } from '../scratch.js';
 
 export interface RawInput {
@@ -71,7 +71,8 @@ async function writeCacheEntry(session: Session, table: string, cached: string):
   } catch {
     return; // a read-only checkout: work without the cache
   }
-  removeAbandonedTemps(dir);
+  // `.tmp` files of runs that were killed while writing.
+  removeAbandoned(dir, /\.(\d+)\.tmp$/);
   const temp = `${cached}.${process.pid}.tmp`;
   faultPoint('cache-start');
   try {
@@ -84,15 +85,6 @@ async function writeCacheEntry(session: Session, table: string, cached: string):
   faultPoint('cache-written');
   renameSync(temp, cached);
   faultPoint('cache-renamed');
-}
-
-/** `.tmp` files of runs that were killed while writing: their process is gone, so nothing will finish them. */
-function removeAbandonedTemps(dir: string): void {
-  for (const name of readdirSync(dir)) {
-    const pid = Number(/\.(\d+)\.tmp$/.exec(name)?.[1]);
-    if (!pid || pid === process.pid || processAlive(pid)) continue;
-    rmSync(path.join(dir, name), { force: true });
-  }
 }
 
 /**

@@ -1,4 +1,4 @@
-import { copyFileSync, existsSync, mkdirSync, readFileSync, readdirSync, renameSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdirSync, readFileSync, renameSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
 import { randomBytes } from 'node:crypto';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
@@ -13,7 +13,7 @@ import type { ProjectBuild, TableBuild } from './build-project.js';
 import { sha256Of, sha256OfFile } from './hash.js';
 import { LINEAGE_COLUMNS } from '../corrections/apply-corrections.js';
 import { MANIFEST_FILE, parseManifest, renderManifest, type Manifest, type TableManifest } from './manifest.js';
-import { processAlive } from '../process-alive.js';
+import { removeAbandoned } from '../process-alive.js';
 
 /** Outputs written to a staging folder, hashed, not yet in place. */
 export interface StagedOutputs {
@@ -30,7 +30,8 @@ export interface StagedOutputs {
  * by key, numbers as DuckDB prints them (shortest text that reads back to the same value).
  */
 export async function stageOutputs(build: ProjectBuild, workDir: string, root: string): Promise<StagedOutputs> {
-  removeAbandonedStages(workDir);
+  // Staging folders of builds that were killed.
+  removeAbandoned(workDir, /^stage-(\d+)-/);
   const stageDir = path.join(workDir, `stage-${process.pid}-${randomBytes(4).toString('hex')}`);
   mkdirSync(stageDir, { recursive: true });
   const files = new Map<string, string>();
@@ -48,16 +49,6 @@ export async function stageOutputs(build: ProjectBuild, workDir: string, root: s
     throw error;
   }
   return { stageDir, files, manifest };
-}
-
-/** Staging folders left by a build that was killed: their process is gone, so nothing will finish them. */
-function removeAbandonedStages(workDir: string): void {
-  if (!existsSync(workDir)) return;
-  for (const name of readdirSync(workDir)) {
-    const pid = Number(/^stage-(\d+)-/.exec(name)?.[1]);
-    if (!pid || pid === process.pid || processAlive(pid)) continue;
-    rmSync(path.join(workDir, name), { recursive: true, force: true });
-  }
 }
 
 /** Entries of other tables in the current manifest survive a build of one table. */

@@ -59,7 +59,7 @@ export async function explainChangedCells(
   }
 
   // A clean column may carry another name in the raw delivery (renamed by a correction).
-  const renames = await session.all<{ old: string; new: string }>(`SELECT "old", "new" FROM ${ident(head.lineageTable)} WHERE "change" = 'column-renamed' ORDER BY "correction", "step"`);
+  const renames = await session.all<{ old: string; new: string }>(`SELECT "old", "new" FROM ${ident(head.lineageTable)} WHERE "change" = 'column-renamed' ORDER BY "entry"`);
   const rawNameOf = (column: string) => {
     let current = column;
     for (const r of [...renames].reverse()) if (r.new === current) current = r.old;
