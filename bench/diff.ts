@@ -36,6 +36,8 @@ const CLI = path.join(REPO_ROOT, 'bin', 'errata.js');
 const TARGET_BASELINE_RATIO = 1.5;
 const TARGET_PEAK_BYTES = 2e9;
 const TARGET_GIT_SPEEDUP = 3;
+const GIT_SPEEDUP_ROWS = 10_000_000;
+const GIT_NO_SLOWER_ROWS = 2_000_000;
 const TARGET_CACHE_RATIO = 0.3;
 const TABLE = 'visits';
 /** The revision diff builds both ends twice; above this many rows it runs on a smaller pair unless told. */
@@ -335,8 +337,12 @@ async function main(): Promise<void> {
   if (files && git) {
     const speedUp = git.s / files.diffS;
     const capped = git.timedOut ? ' (git hit the cap, so at least this)' : '';
-    verdict(speedUp >= TARGET_GIT_SPEEDUP, `errata at least ${TARGET_GIT_SPEEDUP}x faster than git diff: ${speedUp.toFixed(2)}x${capped}`);
-    verdict(speedUp >= 1, `errata no slower than git diff (the 2,000,000-row target): ${files.diffS.toFixed(2)} s against ${git.s.toFixed(2)} s${capped}`);
+    // The issue sets each git target on one size of pair: 3x faster on 10,000,000 rows, no slower on
+    // 2,000,000; on other sizes both are printed as figures only.
+    const judged = (target: number, text: string, met: boolean) =>
+      args.rows === target ? verdict(met, text) : console.log(`FIGURE         ${text} (the target is set for the ${count(target)}-row pair)`);
+    judged(GIT_SPEEDUP_ROWS, `errata at least ${TARGET_GIT_SPEEDUP}x faster than git diff: ${speedUp.toFixed(2)}x${capped}`, speedUp >= TARGET_GIT_SPEEDUP);
+    judged(GIT_NO_SLOWER_ROWS, `errata no slower than git diff: ${files.diffS.toFixed(2)} s against ${git.s.toFixed(2)} s${capped}`, speedUp >= 1);
   } else skipped('comparisons with git diff', files ? 'git' : 'files');
   if (cache) {
     const ratio = cache.second / cache.first;
