@@ -40,16 +40,8 @@ function cacheFile(cache: RawCache, blob: string, input: Omit<InputFile, 'localP
  * killed mid-write leaves at most a `.tmp` file, which is never read and is removed by a later run.
  * An entry that cannot be read all the same (a damaged disk) is parsed again and replaced.
  */
-async function loadCached(
-  session: Session,
-  tree: ProjectTree,
-  input: Omit<InputFile, 'localPath'>,
-  target: string,
-  blob: string,
-  cache: RawCache | undefined,
-  order: 'any' | 'file',
-): Promise<string[]> {
-  const cached = cache && order === 'any' ? cacheFile(cache, blob, input) : null;
+async function loadCached(session: Session, tree: ProjectTree, input: Omit<InputFile, 'localPath'>, target: string, blob: string, cache?: RawCache): Promise<string[]> {
+  const cached = cache ? cacheFile(cache, blob, input) : null;
   if (cached && existsSync(cached)) {
     try {
       await session.run(`CREATE OR REPLACE TABLE ${ident(target)} AS SELECT * FROM read_parquet(${literal(cached)})`);
@@ -59,7 +51,7 @@ async function loadCached(
     }
   }
   const localPath = await tree.localPath(input.name);
-  const columns = await loadFile(session, { ...input, localPath }, target, { anyOrder: order === 'any' });
+  const columns = await loadFile(session, { ...input, localPath }, target);
   if (cached && cache?.write && input.format !== 'parquet') await writeCacheEntry(session, target, cached);
   return columns;
 }
@@ -118,32 +110,25 @@ export async function loadRawTable(
   planned?: readonly RawInput[],
 ): Promise<{ inputs: RawInput[]; columns: string[] }> {
   const chosen = planned ?? (await planRawTable(tree, table));
-  // Rows are named by their key from here on, so they may load in any order; only a key problem,
-  // which names rows by their place in the file, needs the delivery read again in file order.
-  const load = async (order: 'any' | 'file'): Promise<string[]> => {
-    const parts: string[] = [];
-    let columns: string[] = [];
-    for (const [index, { path: file, blob }] of chosen.entries()) {
-      const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
-      const part = chosen.length === 1 ? target : `${target}__part${index}`;
-      columns = await loadCached(session, tree, input, part, blob, cache, order);
-      await assertHasRows(session, part, file);
-      for (const k of table.key) {
-        if (!columns.includes(k)) {
-          throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
-            hint: `Its columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml, or ask for a delivery with that column.`,
-            data: { file, line: 1, column: k },
-          });
-        }
+  const parts: string[] = [];
+  let columns: string[] = [];
+  for (const [index, { path: file, blob }] of chosen.entries()) {
+    const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
+    const part = chosen.length === 1 ? target : `${target}__part${index}`;
+    columns = await loadCached(session, tree, input, part, blob, cache);
+    await assertHasRows(session, part, file);
+    for (const k of table.key) {
+      if (!columns.includes(k)) {
+        throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in ${path.basename(file)}`, {
+          hint: `Its columns are: ${columns.slice(0, 12).join(', ')}${columns.length > 12 ? ', ...' : ''}. Fix \`key:\` in errata.yaml, or ask for a delivery with that column.`,
+          data: { file, line: 1, column: k },
+        });
       }
-      parts.push(part);
     }
-    if (parts.length > 1) await stackTables(session, parts, target);
-    return columns;
-  };
-  const columns = await load('any');
-  const named = chosen.length === 1 ? chosen[0].path : table.raw;
-  await assertKeyValid(session, target, table.key, columns, named, async () => void (await load('file')));
+    parts.push(part);
+  }
+  if (parts.length > 1) await stackTables(session, parts, target);
+  await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0].path : table.raw);
   return { inputs: [...chosen], columns };
 }
 

@@ -19,17 +19,9 @@ export function keyText(values: readonly string[]): string {
 
 /**
  * Every row must have a key, and no two rows the same key. Errors name the file and show a few
- * examples so the user can find them. `reloadInFileOrder`: the table was loaded in any order
- * (LoadOptions.anyOrder); it is called before rows are named by their position in the file.
+ * examples so the user can find them.
  */
-export async function assertKeyValid(
-  session: Session,
-  table: string,
-  key: readonly string[],
-  columns: readonly string[],
-  file: string,
-  reloadInFileOrder?: () => Promise<void>,
-): Promise<void> {
+export async function assertKeyValid(session: Session, table: string, key: readonly string[], columns: readonly string[], file: string): Promise<void> {
   for (const k of key) {
     if (!columns.includes(k)) {
       throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in the file`, {
@@ -45,7 +37,6 @@ export async function assertKeyValid(
     SELECT count(*) FILTER (WHERE ${missingCondition}) AS missing, count(*) - count(DISTINCT ${keyExpr}) AS repeated
     FROM ${ident(table)}`);
   if (Number(health.missing) === 0 && Number(health.repeated) === 0) return;
-  await reloadInFileOrder?.();
   const missing = await session.all<{ row: bigint }>(`
     SELECT row FROM (SELECT row_number() OVER () AS row, * FROM ${ident(table)})
     WHERE ${missingCondition} ORDER BY row LIMIT 5`);

@@ -16,15 +16,6 @@ export interface InputFile {
   delimiter?: string;
 }
 
-export interface LoadOptions {
-  /**
-   * The caller names rows by their key, never by position: delimited rows may land in any order, which
-   * lets DuckDB read the file in parallel without keeping its order (0.3-0.4 s less per million rows).
-   * The table's rowid is then not the record's position in the file.
-   */
-  anyOrder?: boolean;
-}
-
 const EXTENSIONS: Record<string, FileFormat> = {
   '.csv': 'csv',
   '.txt': 'csv',
@@ -47,20 +38,19 @@ export function formatOf(filename: string, configured?: FileFormat): FileFormat 
  * in every column, so nothing is converted (or lost) before type detection has looked at every row;
  * Parquet keeps the types its writer declared.
  */
-export async function loadFile(session: Session, input: InputFile, target: string, options: LoadOptions = {}): Promise<string[]> {
+export async function loadFile(session: Session, input: InputFile, target: string): Promise<string[]> {
   if (!existsSync(input.localPath) || !statSync(input.localPath).isFile()) {
     throw new ErrataError('INPUT_MISSING', `no such file: ${input.name}`, { hint: 'Check the path.', data: { file: input.name } });
   }
   // In CSV a NUL in a value is a NUL byte in the file, and scanning the bytes takes a fraction of a
   // table scan (0.3 s a million rows); JSON lines can spell one as an escape, so they are always
-  // scanned as a table. A file that may hold one is read in file order, so its record can be named.
+  // scanned as a table.
   const delimited = input.format === 'csv' || input.format === 'tsv';
-  const mayHoldNul = input.format === 'jsonl' || (delimited && fileHoldsNulByte(input.localPath));
   let columns: string[];
   switch (input.format) {
     case 'csv':
     case 'tsv':
-      columns = await loadDelimited(session, input, target, (options.anyOrder ?? false) && !mayHoldNul);
+      columns = await loadDelimited(session, input, target);
       break;
     case 'parquet':
       return loadParquet(session, input, target);
@@ -68,7 +58,7 @@ export async function loadFile(session: Session, input: InputFile, target: strin
       columns = await loadJsonLines(session, input, target);
       break;
   }
-  if (mayHoldNul) await assertNoNulBytes(session, target, columns, input.name, delimited ? 1 : 0);
+  if (!delimited || fileHoldsNulByte(input.localPath)) await assertNoNulBytes(session, target, columns, input.name, delimited ? 1 : 0);
   return columns;
 }
 
@@ -78,7 +68,7 @@ export async function loadFile(session: Session, input: InputFile, target: strin
  */
 async function assertNoNulBytes(session: Session, table: string, columns: readonly string[], file: string, headerLines: number): Promise<void> {
   if (columns.length === 0) return;
-  // rowid of a table created from a file in file order is the record's position in it.
+  // rowid of a table created from a file is the record's position in it.
   const rows = await session.all<Record<string, unknown> & { __errata_row: bigint }>(`
     SELECT rowid AS "__errata_row", * FROM ${ident(table)}
     WHERE ${columns.map((c) => `contains(${ident(c)}, chr(0))`).join(' OR ')}
@@ -108,7 +98,7 @@ function fileHoldsNulByte(file: string): boolean {
   }
 }
 
-async function loadDelimited(session: Session, input: InputFile, target: string, anyOrder: boolean): Promise<string[]> {
+async function loadDelimited(session: Session, input: InputFile, target: string): Promise<string[]> {
   const delimiter = input.delimiter ?? (input.format === 'tsv' ? '\t' : ',');
   const header = readHeader(input, delimiter);
   const columns = header.map((name) => `${literal(name)}: 'VARCHAR'`).join(', ');
@@ -118,12 +108,9 @@ async function loadDelimited(session: Session, input: InputFile, target: string,
       delim = ${literal(delimiter)}, quote = '"', escape = '"',
       strict_mode = true, allow_quoted_nulls = false, null_padding = false, max_line_size = ${MAX_LINE_BYTES})`;
   try {
-    if (anyOrder) await session.runRaw('SET preserve_insertion_order = false');
     await session.runRaw(sql);
   } catch (error) {
     throw csvError(input, (error as Error).message);
-  } finally {
-    if (anyOrder) await session.runRaw('SET preserve_insertion_order = true');
   }
   return header;
 }

@@ -24,9 +24,7 @@ export async function loadComparedFile(
   target: string,
   options: LoadFileOptions & { countTypes: boolean },
 ): Promise<Map<string, TypeFits>> {
-  // A diff names rows by key, or counts them without any identity: the file may load in any order
-  // (see LoadOptions.anyOrder).
-  const { key } = await loadCheckedFile(session, file, target, options, true);
+  const { key } = await loadCheckedFile(session, file, target, options);
   if (!options.countTypes) return new Map();
   const compared = (await columnsOf(session, target)).filter((c) => c.type === 'VARCHAR' && !key.includes(c.name)).map((c) => c.name);
   const fits = await countTypeFits(
@@ -53,13 +51,7 @@ export async function loadGroupedFile(
   return text;
 }
 
-async function loadCheckedFile(
-  session: Session,
-  file: string,
-  target: string,
-  options: LoadFileOptions,
-  anyOrder = false,
-): Promise<{ columns: string[]; key: readonly string[] }> {
+async function loadCheckedFile(session: Session, file: string, target: string, options: LoadFileOptions): Promise<{ columns: string[]; key: readonly string[] }> {
   const format = formatOf(file, options.format);
   if (!format) {
     throw new ErrataError('INPUT_FORMAT', `cannot tell the format of ${path.basename(file)} from its extension`, {
@@ -67,10 +59,8 @@ async function loadCheckedFile(
       data: { file },
     });
   }
-  const input = { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter };
-  const columns = await loadFile(session, input, target, { anyOrder });
+  const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
   const key = options.key ?? [];
-  const reloadInFileOrder = anyOrder ? async () => void (await loadFile(session, input, target)) : undefined;
-  if (key.length) await assertKeyValid(session, target, key, columns, file, reloadInFileOrder);
+  if (key.length) await assertKeyValid(session, target, key, columns, file);
   return { columns, key };
 }
