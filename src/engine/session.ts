@@ -25,6 +25,12 @@ export interface SessionOptions {
   spillDir?: string;
   /** DuckDB memory limit, e.g. "2GB". */
   memoryLimit?: string;
+  /**
+   * Hand freed memory back to the system promptly. By default DuckDB's allocator keeps up to 128 MiB
+   * per thread cached, and a diff of two 1 GB files ran 0.4-0.7 GB above its memory limit; returning
+   * it costs some time, so only a session whose whole-process memory is bounded asks for it.
+   */
+  returnFreedMemory?: boolean;
   threads?: number;
   /** Longest one statement may run, in milliseconds; default `statementTimeout()`. */
   timeoutMs?: number;
@@ -71,12 +77,12 @@ export class Session {
       autoinstall_known_extensions: 'false',
       autoload_known_extensions: 'false',
       preserve_insertion_order: 'true',
-      // Hand freed memory back to the system promptly: by default DuckDB's allocator keeps up to
-      // 128 MiB per thread cached, and a diff of two 1 GB files ran 0.4-0.7 GiB above its memory limit.
-      allocator_flush_threshold: '16MB',
-      allocator_background_threads: 'true',
     };
     if (options.memoryLimit) config.memory_limit = options.memoryLimit;
+    if (options.returnFreedMemory) {
+      config.allocator_flush_threshold = '16MB';
+      config.allocator_background_threads = 'true';
+    }
     if (options.threads) config.threads = String(options.threads);
     if (options.spillDir) {
       mkdirSync(options.spillDir, { recursive: true });
