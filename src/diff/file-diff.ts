@@ -3,6 +3,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { loadComparedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
+import { removeAbandoned } from '../process-alive.js';
 import { diffRowMultisets } from './multiset-diff.js';
 import { diffTables } from './table-diff.js';
 import type { MultisetDiff, TableDiff } from './types.js';
@@ -23,6 +24,8 @@ export interface FileDiffOptions {
 
 /** Diff two files outside any project (`errata diff --files OLD NEW`). */
 export async function diffFiles(oldFile: string, newFile: string, options: FileDiffOptions): Promise<TableDiff | MultisetDiff> {
+  // Spill folders of diffs that were killed go with the next diff in the same project.
+  if (options.workDir) removeAbandoned(options.workDir, /^errata-spill-(\d+)$/);
   const spillDir = path.join(options.workDir ?? os.tmpdir(), `errata-spill-${process.pid}`);
   // DuckDB's limit covers its buffers, not everything the process holds: with 1.4 GB and freed memory
   // returned, a diff of two 10,000,000-row files peaked at 1.78 GB in all (2.5 GB with a 2 GB limit

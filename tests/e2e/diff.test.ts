@@ -146,11 +146,13 @@ describe('git-setup', () => {
 });
 
 describe('diff --files and scratch space', () => {
-  it('inside a project spills under .errata/tmp in a folder of its own, removed afterwards; outside one it leaves nothing behind', async () => {
+  it('inside a project spills under .errata/tmp in a folder of its own, removed afterwards with any a killed diff left; outside one it leaves nothing behind', async () => {
     const root = await makeProject({ 'errata.yaml': 'tables:\n  people:\n    raw: raw/people\n    key: id\n' });
     const outside = tempDir();
     try {
       for (const dir of [root, outside]) writeFiles(dir, { 'old.csv': FIRST, 'new.csv': SECOND });
+      // What a killed diff leaves: a spill folder named by a process that is gone (pid 999999999).
+      writeFiles(root, { '.errata/tmp/errata-spill-999999999/duckdb.tmp': 'x' });
       for (const cwd of [root, outside]) {
         const result = await errata(cwd, ['diff', '--files', 'old.csv', 'new.csv', '--key', 'id', '--format', 'json', '--summary']);
         expect(result.stderr).toBe('');
