@@ -57,11 +57,9 @@ export interface ProjectBuild {
   conflicts: Conflict[];
 }
 
-/** A project whose inputs are loaded into a session but not yet corrected. */
-export interface PreparedProject {
-  config: ProjectConfig;
+/** A project whose inputs are loaded into a session (raw tables named with `prefix`) but not yet corrected. */
+export interface PreparedProject extends ProjectPlan {
   prefix: string;
-  tables: Array<{ table: TableConfig; codebook: Codebook | null; inputs: RawInput[]; corrections: Correction[]; sources: RawInput[] }>;
 }
 
 /**
@@ -134,13 +132,11 @@ export async function loadPlannedProject(
   options: { prefix?: string; cache?: RawCache; onProgress?: (event: BuildProgress) => void } = {},
 ): Promise<PreparedProject> {
   const prefix = options.prefix ?? '';
-  const tables: PreparedProject['tables'] = [];
   for (const planned of plan.tables) {
     options.onProgress?.({ phase: 'load', table: planned.table.name });
     await loadRawTable(session, tree, planned.table, rawName(planned.table, prefix), options.cache, planned.inputs);
-    tables.push(planned);
   }
-  return { config: plan.config, prefix, tables };
+  return { ...plan, prefix };
 }
 
 /** Correct phase: types, corrections with lineage, final types. Runs after the session is locked down. */

@@ -1,7 +1,9 @@
 import { rmSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { loadComparedFile } from '../engine/load-typed.js';
+import { columnTypeFits } from '../engine/column-types.js';
+import { columnsOf } from '../engine/load-table.js';
+import { loadCheckedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
 import { removeAbandoned } from '../process-alive.js';
 import { diffRowMultisets } from './multiset-diff.js';
@@ -34,11 +36,14 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   try {
     const key = options.key ?? [];
     // Kept as delivered text: compared by the types decided over each whole column, shown as written.
-    // The new side's types are worked out from the old side's counts and the rows that differ.
-    const oldFits = await loadComparedFile(session, oldFile, 'old_side', { key, countTypes: key.length > 0 });
-    await loadComparedFile(session, newFile, 'new_side', { key, countTypes: false });
+    await loadCheckedFile(session, oldFile, 'old_side', { key });
+    await loadCheckedFile(session, newFile, 'new_side', { key });
     const table = path.basename(newFile);
     if (key.length === 0) return await diffRowMultisets(session, 'old_side', 'new_side', { table, rowLimit: options.cellLimit });
+    // Only the old side is counted over every row; the new side's types are worked out from these
+    // counts and the rows that differ. Key columns are matched as text and never compared.
+    const oldText = (await columnsOf(session, 'old_side')).filter((c) => c.type === 'VARCHAR' && !key.includes(c.name)).map((c) => c.name);
+    const oldFits = await columnTypeFits(session, 'old_side', oldText);
     return await diffTables(session, 'old_side', 'new_side', {
       key,
       table,

@@ -120,7 +120,6 @@ async function diffFinished(
   return { diffs, conflicts };
 }
 
-
 interface Finished {
   table: string;
   key: string[];

@@ -1,4 +1,4 @@
-import { SQL_TYPE, addTypeFits, countTypeFits, detectedType, valueTypeOf, type TypeFits, type ValueType } from '../engine/column-types.js';
+import { SQL_TYPE, addTypeFits, countTypeFits, detectedType, valueCountsSql, valueTypeOf, type TypeFits, type ValueType } from '../engine/column-types.js';
 import { keyExpression } from '../engine/keys.js';
 import { columnsOf, type ColumnInfo } from '../engine/load-table.js';
 import type { Session } from '../engine/session.js';
@@ -19,7 +19,7 @@ export interface DiffOptions {
   /**
    * Both tables hold delivered text (file diffs): values are compared as the types decided over each
    * whole column but shown as their text. `oldFits` are the old side's type counts for its text
-   * columns other than the key (loadComparedFile); the new side's are worked out from them and the
+   * columns other than the key (columnTypeFits); the new side's are worked out from them and the
    * rows that differ, since rows whose text is the same on both sides add the same counts to each.
    * Without this option, columns compare by their SQL types.
    */
@@ -165,8 +165,7 @@ async function deliveredTextTypes(
     return `SELECT "ov${i}" AS v, -1 AS k FROM ${rows} WHERE NOT "added" AND "s${i}"
             UNION ALL SELECT "nv${i}" AS v, 1 AS k FROM ${rows} WHERE NOT "removed" AND "s${i}"`;
   });
-  const full = counted.map((c) => `SELECT ${ident(c)} AS v, count(*) AS k FROM ${ident(work.newTable)} GROUP BY ALL`);
-  const fits = await countTypeFits(session, [...deltas, ...full]);
+  const fits = await countTypeFits(session, [...deltas, ...counted.map((c) => valueCountsSql(work.newTable, c))]);
   const types = new Map<string, ValueType>();
   fromOld.forEach((c, i) => types.set(c, detectedType(addTypeFits(work.oldFits.get(c)!, fits[i]), false)));
   counted.forEach((c, i) => types.set(c, detectedType(fits[fromOld.length + i], false)));

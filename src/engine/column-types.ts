@@ -180,7 +180,7 @@ export async function decideColumnTypes(
     text.map((name) => {
       const grouped = options.grouped?.get(name);
       if (grouped) return `SELECT ${ident(name)} AS v, ${ident(rowsColumn(name))} AS k FROM ${ident(grouped)}`;
-      return `SELECT ${ident(name)} AS v, ${name === distinctByKey ? '1 AS k' : `count(*) AS k`} FROM ${ident(table)}${name === distinctByKey ? '' : ' GROUP BY ALL'}`;
+      return name === distinctByKey ? `SELECT ${ident(name)} AS v, 1 AS k FROM ${ident(table)}` : valueCountsSql(table, name);
     }),
   );
   const result: ColumnTyping[] = [];
@@ -257,6 +257,17 @@ export async function countTypeFits(session: Session, sources: readonly string[]
     };
   }
   return result;
+}
+
+/** A column's distinct values `v` with the rows holding each `k`: a source for countTypeFits. */
+export function valueCountsSql(table: string, column: string): string {
+  return `SELECT ${ident(column)} AS v, count(*) AS k FROM ${ident(table)} GROUP BY ALL`;
+}
+
+/** The type fits of each of `columns` of `table`, counted over every row. */
+export async function columnTypeFits(session: Session, table: string, columns: readonly string[]): Promise<Map<string, TypeFits>> {
+  const fits = await countTypeFits(session, columns.map((c) => valueCountsSql(table, c)));
+  return new Map(columns.map((c, i) => [c, fits[i]]));
 }
 
 /** The first type every value fits (string when none, or when there are no values). */

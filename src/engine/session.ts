@@ -1,21 +1,11 @@
 import { mkdirSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import type * as DuckDB from '@duckdb/node-api';
 import type { DuckDBConnection, DuckDBInstance, DuckDBValue } from '@duckdb/node-api';
 import { ErrataError } from '../errors.js';
+import { onFirstUse } from '../lazy-module.js';
 
-const requireHere = createRequire(import.meta.url);
-let duckdb: typeof DuckDB | null = null;
-
-/**
- * @duckdb/node-api, loaded when the first session opens, so commands that never open one (init, log,
- * help) do not pay for it. Loaded through require: importing this CommonJS package as ES modules makes
- * Node parse every file it re-exports to find their names (0.30 s of start-up against 0.13 s).
- */
-function duckdbModule(): typeof DuckDB {
-  duckdb ??= requireHere('@duckdb/node-api') as typeof DuckDB;
-  return duckdb;
-}
+/** @duckdb/node-api, loaded when the first session opens (init, log and help never open one). */
+const duckdbModule = onFirstUse<typeof DuckDB>('@duckdb/node-api');
 
 export type Row = Record<string, unknown>;
 export type Params = DuckDBValue[] | Record<string, DuckDBValue>;
