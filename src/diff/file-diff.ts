@@ -1,11 +1,13 @@
-import { rmSync } from 'node:fs';
+import { mkdirSync, rmSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { ErrataError } from '../errors.js';
 import { columnTypeFits } from '../engine/column-types.js';
-import { columnsOf } from '../engine/load-table.js';
+import { columnsOf, formatOf, readHeader } from '../engine/load-table.js';
 import { loadCheckedFile } from '../engine/load-typed.js';
 import { Session } from '../engine/session.js';
 import { removeAbandoned } from '../process-alive.js';
+import { scanAligned, type AlignedScan } from './aligned-scan.js';
 import { diffRowMultisets } from './multiset-diff.js';
 import { diffTables } from './table-diff.js';
 import type { MultisetDiff, TableDiff } from './types.js';
@@ -35,10 +37,21 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   const session = await Session.open({ memoryLimit: options.memoryLimit ?? '1.4GB', spillDir, returnFreedMemory: true });
   try {
     const key = options.key ?? [];
+    const table = path.basename(newFile);
+    const aligned = key.length ? alignedParts(oldFile, newFile, key, spillDir) : null;
+    if (aligned?.kind === 'aligned' && (await loadParts(session, aligned, key))) {
+      return await diffTables(session, 'old_side', 'new_side', {
+        key,
+        table,
+        tolerance: options.tolerance,
+        cellLimit: options.cellLimit,
+        deliveredText: { oldFits: aligned.oldFits },
+        parts: { newRows: aligned.newRows },
+      });
+    }
     // Kept as delivered text: compared by the types decided over each whole column, shown as written.
     await loadCheckedFile(session, oldFile, 'old_side', { key });
     await loadCheckedFile(session, newFile, 'new_side', { key });
-    const table = path.basename(newFile);
     if (key.length === 0) return await diffRowMultisets(session, 'old_side', 'new_side', { table, rowLimit: options.cellLimit });
     // Only the old side is counted over every row; the new side's types are worked out from these
     // counts and the rows that differ. Key columns are matched as text and never compared.
@@ -54,5 +67,40 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   } finally {
     session.close();
     rmSync(spillDir, { recursive: true, force: true });
+  }
+}
+
+/**
+ * The lines of two CSV or TSV files that may differ, by the aligned scan (aligned-scan.ts), or why the
+ * files need the whole-file diff.
+ */
+function alignedParts(oldFile: string, newFile: string, key: readonly string[], workDir: string): AlignedScan {
+  const format = formatOf(oldFile);
+  if ((format !== 'csv' && format !== 'tsv') || formatOf(newFile) !== format) return { kind: 'unsuitable', reason: 'not both CSV or both TSV' };
+  const delimiter = format === 'tsv' ? '\t' : ',';
+  let header: string[];
+  try {
+    header = readHeader({ name: oldFile, localPath: path.resolve(oldFile), format }, delimiter);
+  } catch (error) {
+    if (error instanceof ErrataError) return { kind: 'unsuitable', reason: error.message };
+    throw error;
+  }
+  mkdirSync(workDir, { recursive: true });
+  const part = (side: string) => path.join(workDir, `${side}-part.${format}`);
+  return scanAligned(oldFile, newFile, { delimiter, header, key, oldPart: part('old'), newPart: part('new') });
+}
+
+/**
+ * Load the parts of an aligned scan. False when the engine finds a problem in them: the whole files
+ * are then diffed, so that the message names the file and line the user has.
+ */
+async function loadParts(session: Session, aligned: Extract<AlignedScan, { kind: 'aligned' }>, key: readonly string[]): Promise<boolean> {
+  try {
+    await loadCheckedFile(session, aligned.oldPart, 'old_side', { key });
+    await loadCheckedFile(session, aligned.newPart, 'new_side', { key });
+    return true;
+  } catch (error) {
+    if (error instanceof ErrataError) return false;
+    throw error;
   }
 }

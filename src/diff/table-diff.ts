@@ -25,6 +25,13 @@ export interface DiffOptions {
    */
   deliveredText?: { oldFits: ReadonlyMap<string, TypeFits> };
   /**
+   * The tables hold only the rows that may differ, all rows identical on both sides left out (the
+   * aligned scan's parts), and the whole new side has `newRows` rows. The new side's type counts are
+   * then the old side's less the old table's plus the new table's, and the join is read once rather
+   * than kept.
+   */
+  parts?: { newRows: number };
+  /**
    * Also keep every changed cell in a session table of this name ("key", "column", "old", "new"), for
    * callers that go on in SQL (the review) rather than in JavaScript.
    */
@@ -62,7 +69,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
   const anyStored = commonNames.length ? commonNames.map((_, i) => `"s${i}"`).join(' OR ') : 'false';
   const rowKey = `CASE WHEN n.${ident(key[0])} IS NULL THEN ${keyExpression(key, 'o')} ELSE ${keyExpression(key, 'n')} END`;
   const order = key.map((k) => `COALESCE(n.${ident(k)}, o.${ident(k)})`);
-  await session.run(`CREATE TEMP TABLE ${ident(rowsWork)} AS
+  await session.run(`CREATE TEMP ${options.parts ? 'VIEW' : 'TABLE'} ${ident(rowsWork)} AS
     SELECT * FROM (
       SELECT ${rowKey} AS "key",
              ${order.map((o, i) => `${o} AS "k${i}"`).join(', ')},
@@ -73,7 +80,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
     ) WHERE "added" OR "removed" OR ${anyStored}`);
   try {
     const types = options.deliveredText
-      ? await deliveredTextTypes(session, { oldInfo, newInfo, key, commonNames, rowsWork, newTable, oldFits: options.deliveredText.oldFits })
+      ? await deliveredTextTypes(session, { oldInfo, newInfo, key, commonNames, rowsWork, oldTable, newTable, oldFits: options.deliveredText.oldFits, parts: Boolean(options.parts) })
       : null;
     const compared = (column: ColumnInfo, side: 'old' | 'new'): Compared => ({ ...column, as: types?.[side].get(column.name) ?? valueTypeOf(column.type) });
     const common = commonNames.map((c) => ({ old: compared(oldInfoByName.get(c)!, 'old'), new: compared(newInfoByName.get(c)!, 'new') }));
@@ -86,20 +93,20 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
                ${[...flags, ...common.flatMap((c, i) => [`${textSql(`"ov${i}"`, c.old.type)} AS "o${i}"`, `${textSql(`"nv${i}"`, c.new.type)} AS "n${i}"`])].join(',\n               ')}
         FROM ${ident(rowsWork)}
       ) WHERE "added" OR "removed" OR ${anyFlag}`);
-    await session.run(`DROP TABLE ${ident(rowsWork)}`);
+    await session.run(`DROP ${options.parts ? 'VIEW' : 'TABLE'} ${ident(rowsWork)}`);
     const counts = await session.one<Record<string, bigint>>(`
       SELECT count(*) FILTER (WHERE "added") AS added,
              count(*) FILTER (WHERE "removed") AS removed,
              count(*) FILTER (WHERE NOT "added" AND NOT "removed") AS changed,
              ${common.length ? common.map((_, i) => `count(*) FILTER (WHERE NOT "added" AND NOT "removed" AND "d${i}")`).join(' + ') : '0'} AS cells
       FROM ${ident(work)}`);
-    const newRows = await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(newTable)}`);
+    const newRows = options.parts?.newRows ?? Number((await session.one<{ n: bigint }>(`SELECT count(*) AS n FROM ${ident(newTable)}`)).n);
     const summary: DiffSummary = {
       rows: {
         added: Number(counts.added),
         removed: Number(counts.removed),
         changed: Number(counts.changed),
-        unchanged: Number(newRows.n) - Number(counts.added) - Number(counts.changed),
+        unchanged: newRows - Number(counts.added) - Number(counts.changed),
       },
       cells: { changed: Number(counts.cells) },
       columns: { added, removed, retyped: retyped.map((r) => r.column) },
@@ -120,7 +127,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
       complete: cells.length === summary.cells.changed,
     };
   } finally {
-    await session.run(`DROP TABLE IF EXISTS ${ident(rowsWork)}`);
+    await session.run(`DROP ${options.parts ? 'VIEW' : 'TABLE'} IF EXISTS ${ident(rowsWork)}`);
     await session.run(`DROP TABLE IF EXISTS ${ident(work)}`);
   }
 }
@@ -149,8 +156,10 @@ async function deliveredTextTypes(
     key: readonly string[];
     commonNames: string[];
     rowsWork: string;
+    oldTable: string;
     newTable: string;
     oldFits: ReadonlyMap<string, TypeFits>;
+    parts: boolean;
   },
 ): Promise<{ old: Map<string, ValueType>; new: Map<string, ValueType> }> {
   const old = new Map<string, ValueType>();
@@ -160,6 +169,11 @@ async function deliveredTextTypes(
   const counted = text.filter((c) => !fromOld.includes(c));
   const rows = ident(work.rowsWork);
   const deltas = fromOld.map((c) => {
+    // Every row of the old table is replaced by every row of the new one.
+    if (work.parts) {
+      return `SELECT ${ident(c)} AS v, -count(*) AS k FROM ${ident(work.oldTable)} GROUP BY ALL
+              UNION ALL SELECT ${ident(c)} AS v, count(*) AS k FROM ${ident(work.newTable)} GROUP BY ALL`;
+    }
     const i = work.commonNames.indexOf(c);
     // On an added or removed row the missing side is null, so s_i holds wherever the row has a value.
     return `SELECT "ov${i}" AS v, -1 AS k FROM ${rows} WHERE NOT "added" AND "s${i}"

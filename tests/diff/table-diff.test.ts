@@ -2,20 +2,15 @@ import { writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { afterAll, describe, expect, it } from 'vitest';
+import { createRandom } from '../../src/demo/random.js';
 import { diffFiles } from '../../src/diff/file-diff.js';
 import type { MultisetDiff, TableDiff } from '../../src/diff/types.js';
 import { errata, removeDir, tempDir } from '../helpers/project.js';
 
-/** mulberry32: a tiny seeded generator, so every run of this test sees the same tables. */
+/** The demo's seeded generator (mulberry32), so every run of this test sees the same tables. */
 function random(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const source = createRandom(seed);
+  return () => source.next();
 }
 
 type Row = Record<string, string | null>;

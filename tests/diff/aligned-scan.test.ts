@@ -1,0 +1,245 @@
+import { readFileSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { DuckDBInstance, LIST, VARCHAR, listValue } from '@duckdb/node-api';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { scanAligned } from '../../src/diff/aligned-scan.js';
+import { createRandom } from '../../src/demo/random.js';
+import { diffFiles } from '../../src/diff/file-diff.js';
+import type { TableDiff } from '../../src/diff/types.js';
+import { fitsTypeSql, type ValueType } from '../../src/engine/column-types.js';
+import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE, textFits } from '../../src/engine/text-fits.js';
+import { removeDir, tempDir } from '../helpers/project.js';
+
+/** The demo's seeded generator (mulberry32), so every run of this test sees the same tables. */
+function random(seed: number): () => number {
+  const source = createRandom(seed);
+  return () => source.next();
+}
+
+describe('type fits of raw bytes', () => {
+  // Awkward texts for each rule. The calendar ones follow the Gregorian leap-year rule (divisible by
+  // 4, except centuries not divisible by 400: 1900 is not a leap year, 2000 is), common practice.
+  const values = [
+    '0', '-0', '00', '007', '12', '-12', '123456789012345678', '1234567890123456789', '-999999999999999999',
+    '1.5', '1.50', '-0.5', '0.0', '.5', '5.', '1e3', '1E+3', '1e-3', '2.5e-7', '1e', 'e3', '1e+', '--1', '+1',
+    ' 1', '1 ', '1_000', '1,5', '0x10', '٣', '½', '１２', 'inf', '-inf', 'NaN', 'Infinity', '1e250', '1e-250',
+    'true', 'TRUE', 'False', 'fALSe', 'truth', 'tru', 'yes', 't', 'f', 'falsey',
+    '2020-02-29', '2021-02-29', '1900-02-29', '2000-02-29', '2021-04-31', '2021-04-30', '2021-13-01',
+    '2021-00-10', '2021-01-00', '2021-12-31', '9999-12-31', '0001-01-01', '2021-1-01', '20210101',
+    '2021/01/01', '2021-01-01T00:00', '-2021-01-01', '2021-01-011', 'x', 'S37', 'n/a', 'Ærø', '東京',
+    // The engine's casts decide these; the scan must say it is not sure.
+    `1${'0'.repeat(320)}`, '1e400', '1e-400', '0000-01-01', `1.${'1'.repeat(45)}e3`,
+  ];
+  const types: Array<[Exclude<ValueType, 'string'>, number]> = [
+    ['integer', FITS_INTEGER],
+    ['number', FITS_NUMBER],
+    ['boolean', FITS_BOOLEAN],
+    ['date', FITS_DATE],
+  ];
+
+  it('agrees with the engine on every value it is sure of, and is unsure only at the edges', async () => {
+    const db = await DuckDBInstance.create(':memory:');
+    const conn = await db.connect();
+    const checks = types.map(([type]) => `${fitsTypeSql('v', type)} AS "${type}"`).join(', ');
+    const rows = (
+      await conn.runAndReadAll(`SELECT v, ${checks} FROM (SELECT unnest($values) AS v)`, { values: listValue(values) }, { values: LIST(VARCHAR) })
+    ).getRowObjectsJS();
+    db.closeSync();
+    const unsure: string[] = [];
+    for (const row of rows) {
+      const text = row.v as string;
+      const bytes = Buffer.from(text, 'utf8');
+      const fits = textFits(bytes, 0, bytes.length);
+      if (fits & UNSURE) {
+        unsure.push(text);
+        continue;
+      }
+      for (const [type, flag] of types) expect(Boolean(fits & flag), `${type} of ${JSON.stringify(text)}`).toBe(row[type] === true);
+    }
+    expect(unsure.map((t) => t.slice(0, 12))).toEqual([`1${'0'.repeat(11)}`, '1e400', '1e-400', '0000-01-01', '1.1111111111']);
+  });
+});
+
+type Row = Record<string, string | null>;
+
+const COLUMNS = ['id', 'n', 'x', 'd', 'b', 't'];
+
+/** Unquoted CSV (no value holds a comma, quote or newline); missing is an empty field. */
+function csv(rows: Row[]): string {
+  return [COLUMNS.join(','), ...rows.map((r) => COLUMNS.map((c) => r[c] ?? '').join(','))].join('\n') + '\n';
+}
+
+/**
+ * A pair as a new delivery of the same table looks: mostly the same lines in the same order, with
+ * rows removed and added at random places, cells edited, some rows moved a little and a few moved
+ * far. Rare odd values (text among numbers, an impossible date, "yes" among booleans) sit in rows that
+ * may be edited or removed, so that whole columns change type between the sides.
+ */
+function alignedPair(seed: number): { oldRows: Row[]; newRows: Row[] } {
+  const rand = random(seed);
+  const pick = <T>(list: readonly T[]) => list[Math.floor(rand() * list.length)];
+  const value: Record<string, (odd: number) => string | null> = {
+    n: (odd) => (rand() < odd ? 'n/a' : rand() < 0.05 ? null : String(Math.floor(rand() * 200) - 20)),
+    x: (odd) => (rand() < odd ? 'about 3' : rand() < 0.05 ? null : pick(['1.5', '2.25', '-0.125', '3', '1e3', '7.0'])),
+    d: (odd) => (rand() < odd ? '2021-02-30' : rand() < 0.05 ? null : `2021-${String(1 + Math.floor(rand() * 12)).padStart(2, '0')}-${String(1 + Math.floor(rand() * 28)).padStart(2, '0')}`),
+    b: (odd) => (rand() < odd ? 'yes' : rand() < 0.05 ? null : pick(['true', 'false', 'TRUE', 'False'])),
+    t: () => (rand() < 0.05 ? null : pick(['alpha', 'Ærøskøbing', 'naïve café', '東京', 'emoji 🙂', 'x y'])),
+  };
+  const fresh = (id: string, odd: number): Row => ({ id, n: value.n(odd), x: value.x(odd), d: value.d(odd), b: value.b(odd), t: value.t(odd) });
+  const oldRows: Row[] = [];
+  for (let i = 0; i < 3000; i += 1) oldRows.push(fresh(`K${String(i * 7).padStart(6, '0')}`, 0));
+  // Each odd value once, in a row that is often removed or edited: the column's type then changes.
+  const planted = new Map([[5, 'n'], [700, 'x'], [1500, 'd'], [2200, 'b']]);
+  for (const [at, column] of planted) oldRows[at][column] = value[column](1);
+  const newRows: Row[] = [];
+  let added = 0;
+  for (const [at, row] of oldRows.entries()) {
+    if (rand() < (planted.has(at) ? 0.3 : 0.02)) continue;
+    const copy = { ...row };
+    if (planted.has(at) && rand() < 0.4) copy[planted.get(at)!] = value[planted.get(at)!](0);
+    for (const column of ['n', 'x', 'd', 'b', 't']) if (rand() < 0.01) copy[column] = value[column](0.005);
+    newRows.push(copy);
+    if (rand() < 0.02) newRows.push(fresh(`N${String(added++).padStart(5, '0')}`, 0.002));
+  }
+  // A little further down, and far away (to the top, to the end).
+  for (let i = 0; i < 30; i += 1) {
+    const from = Math.floor(rand() * (newRows.length - 10));
+    const [moved] = newRows.splice(from, 1);
+    newRows.splice(from + 1 + Math.floor(rand() * 8), 0, moved);
+  }
+  for (let i = 0; i < 3; i += 1) newRows.unshift(...newRows.splice(1000 + Math.floor(rand() * 1000), 1));
+  for (let i = 0; i < 3; i += 1) newRows.push(...newRows.splice(Math.floor(rand() * 1000), 1));
+  return { oldRows, newRows };
+}
+
+/**
+ * Plain SQL over each whole file, written here: each column's type by errata's documented rule (every
+ * non-missing value an integer, else every one a number, a boolean, a date, else text), then the
+ * cells that differ by value under both sides' types.
+ */
+async function oracle(oldFile: string, newFile: string, oldRows: Row[], newRows: Row[]) {
+  const db = await DuckDBInstance.create(':memory:');
+  const conn = await db.connect();
+  const typeOf = async (file: string, column: string) => {
+    const [row] = (
+      await conn.runAndReadAll(`SELECT
+          bool_and(regexp_full_match(v, '-?(0|[1-9][0-9]{0,17})')) AS integer,
+          bool_and(regexp_full_match(v, '-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?')) AS number,
+          bool_and(lower(v) IN ('true', 'false')) AS boolean,
+          bool_and(regexp_full_match(v, '[0-9]{4}-[0-9]{2}-[0-9]{2}') AND TRY_CAST(v AS DATE) IS NOT NULL) AS date
+        FROM (SELECT "${column}" AS v FROM read_csv('${file}', header = true, all_varchar = true)) WHERE v IS NOT NULL`)
+    ).getRowObjectsJS();
+    return (['integer', 'number', 'boolean', 'date'] as const).find((t) => row[t] === true) ?? 'string';
+  };
+  const types: Record<string, { old: string; new: string }> = {};
+  for (const c of COLUMNS.slice(1)) types[c] = { old: await typeOf(oldFile, c), new: await typeOf(newFile, c) };
+  db.closeSync();
+  const numeric = (t: string) => t === 'integer' || t === 'number';
+  const same = (c: string, o: string | null, n: string | null) => {
+    if (o === n) return true;
+    if (o === null || n === null) return false;
+    if (numeric(types[c].old) && numeric(types[c].new)) return Number(o) === Number(n);
+    if (types[c].old === 'boolean' && types[c].new === 'boolean') return o.toLowerCase() === n.toLowerCase();
+    return false;
+  };
+  const oldById = new Map(oldRows.map((r) => [r.id!, r]));
+  const newIds = new Set(newRows.map((r) => r.id!));
+  const cells: Array<{ key: string; column: string; old: string | null; new: string | null }> = [];
+  let changed = 0;
+  for (const row of newRows) {
+    const before = oldById.get(row.id!);
+    if (!before) continue;
+    const edits = COLUMNS.slice(1).filter((c) => !same(c, before[c], row[c]));
+    if (edits.length) changed += 1;
+    for (const c of edits) cells.push({ key: row.id!, column: c, old: before[c], new: row[c] });
+  }
+  const added = newRows.filter((r) => !oldById.has(r.id!)).length;
+  const removed = oldRows.filter((r) => !newIds.has(r.id!)).length;
+  const retyped = COLUMNS.slice(1).filter((c) => types[c].old !== types[c].new).map((c) => ({ column: c, from: types[c].old, to: types[c].new }));
+  return { rows: { added, removed, changed, unchanged: newRows.length - added - changed }, cells, retyped };
+}
+
+const byKeyThenColumn = <T extends { key: string; column: string }>(cells: T[]) =>
+  [...cells].sort((a, b) => (a.key === b.key ? COLUMNS.indexOf(a.column) - COLUMNS.indexOf(b.column) : a.key < b.key ? -1 : 1));
+
+describe('keyed diff of two deliveries in much the same order', () => {
+  let dir: string;
+  beforeAll(() => {
+    dir = tempDir();
+  });
+  afterAll(() => removeDir(dir));
+
+  it('agrees with a plain-SQL oracle over the whole files while reading only the differing lines into the engine', async () => {
+    let retypes = 0;
+    for (let seed = 1; seed <= 8; seed += 1) {
+      const { oldRows, newRows } = alignedPair(seed);
+      const oldFile = path.join(dir, `old-${seed}.csv`);
+      const newFile = path.join(dir, `new-${seed}.csv`);
+      writeFileSync(oldFile, csv(oldRows));
+      writeFileSync(newFile, csv(newRows));
+
+      // Small windows, so the scan refills many times and sees moved rows both near and far.
+      const scan = scanAligned(oldFile, newFile, {
+        delimiter: ',',
+        header: COLUMNS,
+        key: ['id'],
+        oldPart: path.join(dir, `old-part-${seed}.csv`),
+        newPart: path.join(dir, `new-part-${seed}.csv`),
+        windowBytes: 4096,
+      });
+      expect(scan.kind, `seed ${seed}: ${scan.kind === 'unsuitable' ? scan.reason : ''}`).toBe('aligned');
+      if (scan.kind !== 'aligned') continue;
+      expect(scan.oldRows).toBe(oldRows.length);
+      expect(scan.newRows).toBe(newRows.length);
+      const partLines = readFileSync(scan.newPart, 'utf8').split('\n').length - 2;
+      expect(partLines, `seed ${seed}`).toBeLessThan(newRows.length / 4);
+
+      const expected = await oracle(oldFile, newFile, oldRows, newRows);
+      retypes += expected.retyped.length;
+      const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+      expect(diff.summary.rows, `seed ${seed}`).toEqual(expected.rows);
+      expect(diff.retyped, `seed ${seed}`).toEqual(expected.retyped);
+      expect(byKeyThenColumn(diff.cells), `seed ${seed}`).toEqual(byKeyThenColumn(expected.cells));
+      expect(diff.addedKeys).toEqual(newRows.filter((r) => !oldRows.some((o) => o.id === r.id)).map((r) => r.id).sort());
+    }
+    // The pairs must really move columns between types, or the type counting is not checked.
+    expect(retypes).toBeGreaterThanOrEqual(6);
+  }, 120_000);
+
+  it('steps aside for quoted fields, and the whole-file diff still answers', async () => {
+    const oldFile = path.join(dir, 'quoted-old.csv');
+    const newFile = path.join(dir, 'quoted-new.csv');
+    writeFileSync(oldFile, 'id,name\n1,"Smith, Ann"\n2,Lee\n');
+    writeFileSync(newFile, 'id,name\n1,"Smith, Anne"\n2,Lee\n');
+    const scan = scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'name'], key: ['id'], oldPart: path.join(dir, 'q-o.csv'), newPart: path.join(dir, 'q-n.csv') });
+    expect(scan).toEqual({ kind: 'unsuitable', reason: 'quotes' });
+    const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+    expect(diff.cells).toEqual([{ key: '1', column: 'name', old: 'Smith, Ann', new: 'Smith, Anne' }]);
+  });
+
+  it('names the new file and its data rows when a changed line repeats the key of an unchanged one', async () => {
+    const oldFile = path.join(dir, 'dup-old.csv');
+    const newFile = path.join(dir, 'dup-new.csv');
+    const lines = Array.from({ length: 50 }, (_, i) => `${i + 1},v${i + 1}`);
+    writeFileSync(oldFile, ['id,v', ...lines].join('\n') + '\n');
+    // Data row 40 of the new file says id 3 again; row 3 is unchanged, so only the whole file shows it.
+    writeFileSync(newFile, ['id,v', ...lines.map((l, i) => (i === 39 ? '3,v40' : l))].join('\n') + '\n');
+    await expect(diffFiles(oldFile, newFile, { key: ['id'] })).rejects.toMatchObject({
+      code: 'KEY_DUPLICATE',
+      message: expect.stringContaining('3 (2 rows: data rows 3, 40)'),
+      data: expect.objectContaining({ file: newFile, line: 41 }),
+    });
+  });
+
+  it('names the new file and line of a ragged row among the differing lines', async () => {
+    const oldFile = path.join(dir, 'ragged-old.csv');
+    const newFile = path.join(dir, 'ragged-new.csv');
+    const lines = Array.from({ length: 50 }, (_, i) => `${i + 1},v${i + 1},w`);
+    writeFileSync(oldFile, ['id,v,w', ...lines].join('\n') + '\n');
+    writeFileSync(newFile, ['id,v,w', ...lines.map((l, i) => (i === 29 ? '30,v30' : l))].join('\n') + '\n');
+    await expect(diffFiles(oldFile, newFile, { key: ['id'] })).rejects.toMatchObject({
+      code: 'CSV_MALFORMED',
+      data: expect.objectContaining({ file: newFile, line: 31 }),
+    });
+  });
+});
