@@ -1,7 +1,11 @@
-import { isUtf8 } from 'node:buffer';
-import { closeSync, openSync, readSync, statSync, writeSync } from 'node:fs';
+import { closeSync, existsSync, openSync, readSync, statSync, writeSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { Worker } from 'node:worker_threads';
 import type { TypeFits } from '../engine/column-types.js';
-import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE, textFits } from '../engine/text-fits.js';
+import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
+import { LineWindow, NEWLINE } from './line-window.js';
+import { CARRIAGE_RETURN, FIT_COMBINATIONS, KeyTable, QUOTE, Unsuitable, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
+import type { StretchReply } from './old-rows-worker.js';
 
 /**
  * A keyed diff of two delimited files mostly reads rows that did not change: a new delivery repeats
@@ -30,6 +34,8 @@ export type AlignedScan =
       newPart: string;
       oldRows: number;
       newRows: number;
+      /** Lines in the two parts together. */
+      partLines: number;
       /** The old file's type fits of every column but the key, over every row (exactnumber not counted). */
       oldFits: Map<string, TypeFits>;
     }
@@ -45,9 +51,6 @@ export interface AlignedScanOptions {
   windowBytes?: number;
 }
 
-const NEWLINE = 10;
-const QUOTE = 34;
-const CARRIAGE_RETURN = 13;
 /** Bytes kept in view past each cursor. */
 const WINDOW = 4 << 20;
 /**
@@ -58,21 +61,15 @@ const AHEAD_SHARE = 1 / 16;
 /** Past this share of differing bytes the files are too far apart for the scan to pay. */
 const MOST_DIFFER = 0.3;
 
-class Unsuitable extends Error {}
-
-function unsuitable(reason: string): never {
-  throw new Unsuitable(reason);
-}
-
-/** Scan OLD and NEW (see above). Synchronous: it holds the thread only while it reads. */
-export function scanAligned(oldFile: string, newFile: string, options: AlignedScanOptions): AlignedScan {
+/** Scan OLD and NEW (see above). */
+export async function scanAligned(oldFile: string, newFile: string, options: AlignedScanOptions): Promise<AlignedScan> {
   const delimiter = Buffer.from(options.delimiter, 'utf8');
   if (delimiter.length !== 1 || delimiter[0] === QUOTE || delimiter[0] === NEWLINE) return { kind: 'unsuitable', reason: 'delimiter' };
   const keyColumns = options.key.map((k) => options.header.indexOf(k));
   if (keyColumns.some((i) => i < 0)) return { kind: 'unsuitable', reason: 'key column missing' };
   try {
     const window = options.windowBytes ?? WINDOW;
-    const old = countOldFile(oldFile, delimiter[0], options.header.length, keyColumns, window);
+    const old = await countOldFile(oldFile, delimiter[0], options.header.length, keyColumns, window);
     const parts = alignFiles(oldFile, newFile, old, delimiter[0], keyColumns, options, window);
     const oldFits = new Map<string, TypeFits>();
     options.header.forEach((name, c) => {
@@ -81,76 +78,10 @@ export function scanAligned(oldFile: string, newFile: string, options: AlignedSc
       const f = old.fits;
       oldFits.set(name, { n: f[at], integer: f[at + 1], number: f[at + 2], boolean: f[at + 3], date: f[at + 4], exactnumber: Number.NaN });
     });
-    return { kind: 'aligned', oldPart: options.oldPart, newPart: options.newPart, oldRows: old.rows, newRows: old.rows - parts.oldLines + parts.newLines, oldFits };
+    return { kind: 'aligned', oldPart: options.oldPart, newPart: options.newPart, oldRows: old.rows, newRows: old.rows - parts.oldLines + parts.newLines, partLines: parts.oldLines + parts.newLines, oldFits };
   } catch (error) {
     if (error instanceof Unsuitable) return { kind: 'unsuitable', reason: error.message };
     throw error;
-  }
-}
-
-/** A file read forwards through a buffer that always ends on a whole line. */
-class LineWindow {
-  buf: Buffer;
-  /** File offset of buf[0]. */
-  base = 0;
-  pos = 0;
-  /** End of the whole lines in the buffer. */
-  end = 0;
-  private filled = 0;
-  private eof = false;
-  private readonly fd: number;
-
-  constructor(file: string, size: number) {
-    this.fd = openSync(file, 'r');
-    this.buf = Buffer.allocUnsafe(size);
-  }
-
-  close(): void {
-    closeSync(this.fd);
-  }
-
-  /** Whole lines from pos: at least `want` bytes of them unless the file ends first; 0 at the end. */
-  fill(want: number): number {
-    while (this.end - this.pos < want && !this.eof) {
-      if (this.pos > 0) {
-        this.buf.copy(this.buf, 0, this.pos, this.filled);
-        this.base += this.pos;
-        this.filled -= this.pos;
-        this.end -= this.pos;
-        this.pos = 0;
-      }
-      // One byte is kept free for the newline a last line may lack.
-      if (this.buf.length - 1 - this.filled < want) {
-        const bigger = Buffer.allocUnsafe(Math.max(this.buf.length * 2, want * 2));
-        this.buf.copy(bigger, 0, 0, this.filled);
-        this.buf = bigger;
-      }
-      const read = readSync(this.fd, this.buf, this.filled, this.buf.length - 1 - this.filled, null);
-      this.filled += read;
-      if (read === 0) {
-        this.eof = true;
-        if (this.filled > this.end && this.buf[this.filled - 1] !== NEWLINE) this.buf[this.filled++] = NEWLINE;
-      }
-      // (lastIndexOf counts a negative offset from the end of the buffer.)
-      this.end = this.filled === 0 ? 0 : this.buf.lastIndexOf(NEWLINE, this.filled - 1) + 1;
-    }
-    return this.end - this.pos;
-  }
-
-  /** The next line's end (its newline) from pos. */
-  lineEnd(): number {
-    return this.buf.indexOf(NEWLINE, this.pos);
-  }
-
-  /** Skip a UTF-8 byte order mark and the header line, returning the header's bytes. */
-  header(): Buffer {
-    this.fill(1);
-    if (this.end >= 3 && this.buf[0] === 0xef && this.buf[1] === 0xbb && this.buf[2] === 0xbf) this.pos = 3;
-    if (this.end === this.pos) unsuitable('no header');
-    const stop = this.lineEnd();
-    const header = Buffer.from(this.buf.subarray(this.pos, stop + 1));
-    this.pos = stop + 1;
-    return header;
   }
 }
 
@@ -161,84 +92,116 @@ interface OldFile {
   header: Buffer;
   rows: number;
   fits: Float64Array;
-  keys: KeyTable;
+  keys: StretchKeys;
   /** File offset of each row's line. */
   offsets: Float64Array;
 }
 
-/** Pass 1: the old file's rows, their keys (which must be present and unique) and type fits. */
-function countOldFile(file: string, delimiter: number, width: number, keyColumns: number[], windowBytes: number): OldFile {
-  const window = new LineWindow(file, windowBytes * 2);
-  // One count per column and combination of fits: one addition per value, summed up at the end.
-  const combinations = new Float64Array(width * FIT_COMBINATIONS);
-  const isKey = new Uint8Array(width);
-  for (const c of keyColumns) isKey[c] = 1;
-  // Sized from the file's length and its first lines, so the table is seldom rebuilt.
-  const expected = Math.ceil(statSync(file).size / Math.max(1, averageLine(window)));
-  const keys = new KeyTable(expected);
-  let offsets = new Float64Array(Math.max(1 << 16, expected));
-  let rows = 0;
+/**
+ * Pass 1: the old file's rows, their keys (which must be present and unique) and type fits. A long file
+ * is counted in two stretches at once, the second on a worker thread where the compiled worker exists
+ * (under the test runner, which runs the sources, both stretches are counted here in turn).
+ */
+async function countOldFile(file: string, delimiter: number, width: number, keyColumns: number[], windowBytes: number): Promise<OldFile> {
+  const head = new LineWindow(file, 1 << 16);
+  let header: Buffer | null;
+  let start: number;
   try {
-    const header = window.header();
-    if (header.includes(QUOTE) || header.includes(CARRIAGE_RETURN)) unsuitable('quoted or CRLF header');
-    while (window.fill(windowBytes) > 0) {
-      const { buf, pos, end } = window;
-      const block = buf.subarray(pos, end);
-      if (block.includes(QUOTE)) unsuitable('quotes');
-      if (block.includes(CARRIAGE_RETURN)) unsuitable('carriage returns');
-      if (block.includes(0)) unsuitable('NUL byte');
-      if (!isUtf8(block)) unsuitable('not UTF-8');
-      let column = 0;
-      let fieldStart = pos;
-      let lineStart = pos;
-      let h1 = HASH_SEED_1;
-      let h2 = HASH_SEED_2;
-      for (let i = pos; i < end; i += 1) {
-        const byte = buf[i];
-        if (byte !== delimiter && byte !== NEWLINE) continue;
-        if (column >= width) unsuitable('ragged row');
-        if (isKey[column] === 1) {
-          if (i === fieldStart || buf[fieldStart] <= 32 || buf[i - 1] <= 32) unsuitable('missing or padded key');
-          for (let j = fieldStart; j < i; j += 1) {
-            h1 = Math.imul(h1 ^ buf[j], 0x01000193);
-            h2 = Math.imul(h2 ^ buf[j], 0x5bd1e995) ^ (h2 >>> 15);
-          }
-          h1 = Math.imul(h1 ^ KEY_PART, 0x01000193);
-          h2 = Math.imul(h2 ^ KEY_PART, 0x5bd1e995) ^ (h2 >>> 15);
-        } else if (i > fieldStart) {
-          combinations[column * FIT_COMBINATIONS + textFits(buf, fieldStart, i)] += 1;
-        }
-        column += 1;
-        fieldStart = i + 1;
-        if (byte === NEWLINE) {
-          if (column !== width) unsuitable('ragged row');
-          if (rows === offsets.length) offsets = grow(offsets);
-          offsets[rows] = window.base + lineStart;
-          if (!keys.insert(finish(h1), h2, rows)) unsuitable('repeated key');
-          rows += 1;
-          column = 0;
-          lineStart = i + 1;
-          h1 = HASH_SEED_1;
-          h2 = HASH_SEED_2;
-        }
-      }
-      window.pos = end;
-    }
-    return { header, rows, fits: fitsOf(combinations, width), keys, offsets };
+    header = head.header();
+    start = head.offset;
   } finally {
-    window.close();
+    head.close();
+  }
+  if (!header) unsuitable('no header');
+  if (header.includes(QUOTE) || header.includes(CARRIAGE_RETURN)) unsuitable('quoted or CRLF header');
+  const size = statSync(file).size;
+  const split = size - start > Math.min(SPLIT_BYTES, 4 * windowBytes) ? lineAfter(file, start + Math.floor((size - start) / 2), size) : size;
+  const stretch = (from: number, to: number): RowStretch => ({ file, start: from, end: to, delimiter, width, keyColumns, windowBytes });
+  const second = split < size && existsSync(fileURLToPath(WORKER)) ? countOnWorker(stretch(split, size)) : null;
+  let stretches: StretchRows[];
+  try {
+    const first = countStretch(stretch(start, split));
+    stretches = [first, second ? await second.rows : countStretch(stretch(split, size))];
+  } finally {
+    second?.stop();
+  }
+  const keys = new StretchKeys(stretches);
+  const offsets = new Float64Array(keys.rows);
+  const combinations = new Float64Array(width * FIT_COMBINATIONS);
+  let row = 0;
+  for (const part of stretches) {
+    offsets.set(part.offsets.subarray(0, part.rows), row);
+    row += part.rows;
+    for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
+  }
+  return { header, rows: keys.rows, fits: fitsOf(combinations, width), keys, offsets };
+}
+
+/** The old rows by key, over the stretches' own tables, rows numbered through the whole file. */
+class StretchKeys {
+  readonly rows: number;
+  private readonly tables: KeyTable[];
+  private readonly firstRows: number[] = [];
+
+  constructor(stretches: StretchRows[]) {
+    this.tables = stretches.map((part) => KeyTable.of(part.keys, part.rows));
+    let rows = 0;
+    for (const part of stretches) {
+      this.firstRows.push(rows);
+      rows += part.rows;
+    }
+    this.rows = rows;
+    // Each stretch checked its own keys; a key in two stretches is repeated too.
+    for (let i = 1; i < this.tables.length; i += 1) {
+      for (let j = 0; j < i; j += 1) if (this.tables[j].sharesKeyWith(this.tables[i])) unsuitable('repeated key');
+    }
+  }
+
+  /** The row holding this key, or -1. */
+  find(h1: number, h2: number): number {
+    for (let i = 0; i < this.tables.length; i += 1) {
+      const row = this.tables[i].find(h1, h2);
+      if (row >= 0) return this.firstRows[i] + row;
+    }
+    return -1;
   }
 }
 
-/** Bytes per line over the first block of the file. */
-function averageLine(window: LineWindow): number {
-  window.fill(1 << 16);
-  let lines = 0;
-  for (let at = window.buf.indexOf(NEWLINE); at >= 0 && at < window.end; at = window.buf.indexOf(NEWLINE, at + 1)) lines += 1;
-  return lines ? window.end / lines : window.end;
+/** Files longer than this (or than four windows) are counted in two stretches. */
+const SPLIT_BYTES = 8 << 20;
+const WORKER = new URL('./old-rows-worker.js', import.meta.url);
+
+/** The offset just after the first newline at or after `from` (or `end` if there is none). */
+function lineAfter(file: string, from: number, end: number): number {
+  const fd = openSync(file, 'r');
+  try {
+    const probe = Buffer.allocUnsafe(1 << 20);
+    for (let at = from; at < end; at += probe.length) {
+      const read = readSync(fd, probe, 0, Math.min(probe.length, end - at), at);
+      const newline = probe.subarray(0, read).indexOf(NEWLINE);
+      if (newline >= 0) return at + newline + 1;
+      if (read === 0) break;
+    }
+    return end;
+  } finally {
+    closeSync(fd);
+  }
 }
 
-const FIT_COMBINATIONS = 32;
+/** Count a stretch on a worker thread; `stop` ends the thread if the answer is no longer wanted. */
+function countOnWorker(stretch: RowStretch): { rows: Promise<StretchRows>; stop(): void } {
+  const worker = new Worker(WORKER, { workerData: stretch });
+  const rows = new Promise<StretchRows>((resolve, reject) => {
+    worker.once('message', (reply: StretchReply) => {
+      if ('rows' in reply) resolve(reply.rows);
+      else if ('unsuitable' in reply) reject(new Unsuitable(reply.unsuitable));
+      else reject(new Error(reply.failed));
+    });
+    worker.once('error', reject);
+  });
+  rows.catch(() => undefined); // awaited unless the first stretch failed first
+  return { rows, stop: () => void worker.terminate() };
+}
 
 function fitsOf(combinations: Float64Array, width: number): Float64Array {
   const fits = new Float64Array(width * COUNTS);
@@ -258,107 +221,6 @@ function fitsOf(combinations: Float64Array, width: number): Float64Array {
   return fits;
 }
 
-function grow(offsets: Float64Array<ArrayBuffer>): Float64Array<ArrayBuffer> {
-  const bigger = new Float64Array(offsets.length * 2);
-  bigger.set(offsets);
-  return bigger;
-}
-
-const HASH_SEED_1 = 0x811c9dc5 | 0;
-const HASH_SEED_2 = 0x9e3779b9 | 0;
-/** Mixed in after each key column, so ("ab", "c") and ("a", "bc") differ. */
-const KEY_PART = 0x1ff;
-
-function finish(h: number): number {
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b);
-  return h ^ (h >>> 13);
-}
-
-/**
- * The old rows by key hash (two 32-bit hashes): open addressing, so ten million keys take a few
- * hundred megabytes rather than a JavaScript Map's gigabytes. A slot's hashes and row sit side by
- * side, so a probe touches one cache line. Two keys with both hashes equal are taken as repeated;
- * the engine then checks the whole file and names the rows.
- */
-class KeyTable {
-  private mask: number;
-  /** Per slot: first hash, second hash, row + 1 (0: free). */
-  private slots: Int32Array;
-  private count = 0;
-
-  constructor(expected: number) {
-    let size = 1 << 16;
-    while (size * 6 < expected * 10) size *= 2;
-    this.mask = size - 1;
-    this.slots = new Int32Array(size * SLOT);
-  }
-
-  insert(h1: number, h2: number, row: number): boolean {
-    if ((this.count + 1) * 10 > (this.mask + 1) * 6) this.resize();
-    const slots = this.slots;
-    let slot = h1 & this.mask;
-    while (slots[slot * SLOT + 2] !== 0) {
-      if (slots[slot * SLOT] === h1 && slots[slot * SLOT + 1] === h2) return false;
-      slot = (slot + 1) & this.mask;
-    }
-    slots[slot * SLOT] = h1;
-    slots[slot * SLOT + 1] = h2;
-    slots[slot * SLOT + 2] = row + 1;
-    this.count += 1;
-    return true;
-  }
-
-  /** The row holding this key, or -1. */
-  find(h1: number, h2: number): number {
-    const slots = this.slots;
-    let slot = h1 & this.mask;
-    while (slots[slot * SLOT + 2] !== 0) {
-      if (slots[slot * SLOT] === h1 && slots[slot * SLOT + 1] === h2) return slots[slot * SLOT + 2] - 1;
-      slot = (slot + 1) & this.mask;
-    }
-    return -1;
-  }
-
-  private resize(): void {
-    const old = this.slots;
-    this.mask = this.mask * 2 + 1;
-    this.slots = new Int32Array((this.mask + 1) * SLOT);
-    this.count = 0;
-    for (let at = 0; at < old.length; at += SLOT) if (old[at + 2] !== 0) this.insert(old[at], old[at + 1], old[at + 2] - 1);
-  }
-}
-
-const SLOT = 4;
-
-/**
- * A line's key: its text (for equality) and hashes, mixed exactly as countOldFile mixes them (written
- * out there, where it runs for every row), or null if the line has no key.
- */
-function lineKey(buf: Buffer, start: number, stop: number, delimiter: number, keyColumns: readonly number[]): { text: string; h1: number; h2: number } | null {
-  const last = Math.max(...keyColumns);
-  let h1 = HASH_SEED_1;
-  let h2 = HASH_SEED_2;
-  let text = '';
-  let column = 0;
-  let fieldStart = start;
-  for (let i = start; i <= stop && column <= last; i += 1) {
-    if (i < stop && buf[i] !== delimiter) continue;
-    if (keyColumns.includes(column)) {
-      if (i === fieldStart) return null;
-      for (let j = fieldStart; j < i; j += 1) {
-        h1 = Math.imul(h1 ^ buf[j], 0x01000193);
-        h2 = Math.imul(h2 ^ buf[j], 0x5bd1e995) ^ (h2 >>> 15);
-      }
-      h1 = Math.imul(h1 ^ KEY_PART, 0x01000193);
-      h2 = Math.imul(h2 ^ KEY_PART, 0x5bd1e995) ^ (h2 >>> 15);
-      text += `${buf.toString('latin1', fieldStart, i)}\u0000`;
-    }
-    column += 1;
-    fieldStart = i + 1;
-  }
-  return column > last ? { text, h1: finish(h1), h2 } : null;
-}
 
 /** Lines appended to a file through one buffer. */
 class LineWriter {
@@ -414,11 +276,11 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
   const claimed: number[] = [];
   try {
     olds.header();
-    if (!news.header().equals(old.header)) unsuitable('headers differ');
+    if (!news.header()?.equals(old.header)) unsuitable('headers differ');
     const writeOld = (stop: number) => {
-      const key = lineKey(olds.buf, olds.pos, stop, delimiter, keyColumns);
+      const key = keyHashes(olds.buf, olds.pos, stop, delimiter, keyColumns);
       const row = key ? old.keys.find(key.h1, key.h2) : -1;
-      if (row < 0 || old.offsets[row] !== olds.base + olds.pos) unsuitable('old line not found by its key');
+      if (row < 0 || old.offsets[row] !== olds.offset) unsuitable('old line not found by its key');
       written[row] = 1;
       oldPart.write(olds.buf, olds.pos, stop + 1);
       olds.pos = stop + 1;
@@ -442,7 +304,7 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
       }
       if (oldLeft === 0) {
         const stop = news.lineEnd();
-        writeNew(stop, lineKey(news.buf, news.pos, stop, delimiter, keyColumns));
+        writeNew(stop, keyHashes(news.buf, news.pos, stop, delimiter, keyColumns));
         continue;
       }
       const same = commonPrefix(olds.buf, olds.pos, news.buf, news.pos, Math.min(oldLeft, newLeft));
@@ -459,14 +321,14 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
       const oldStop = olds.lineEnd();
       const newStop = news.lineEnd();
       seen += newStop + 1 - news.pos;
-      const oldKey = lineKey(olds.buf, olds.pos, oldStop, delimiter, keyColumns);
-      const newKey = lineKey(news.buf, news.pos, newStop, delimiter, keyColumns);
+      const oldKey = keyHashes(olds.buf, olds.pos, oldStop, delimiter, keyColumns);
+      const newKey = keyHashes(news.buf, news.pos, newStop, delimiter, keyColumns);
       if (newKey && oldKey && newKey.text === oldKey.text) {
         writeOld(oldStop);
         writeNew(newStop, newKey);
       } else {
         const row = newKey ? old.keys.find(newKey.h1, newKey.h2) : -1;
-        const ahead = row < 0 ? -1 : old.offsets[row] - (olds.base + olds.pos);
+        const ahead = row < 0 ? -1 : old.offsets[row] - olds.offset;
         if (ahead >= 0 && ahead <= aheadLimit) writeOld(oldStop);
         else writeNew(newStop, newKey);
       }

@@ -179,7 +179,7 @@ describe('keyed diff of two deliveries in much the same order', () => {
       writeFileSync(newFile, csv(newRows));
 
       // Small windows, so the scan refills many times and sees moved rows both near and far.
-      const scan = scanAligned(oldFile, newFile, {
+      const scan = await scanAligned(oldFile, newFile, {
         delimiter: ',',
         header: COLUMNS,
         key: ['id'],
@@ -211,7 +211,7 @@ describe('keyed diff of two deliveries in much the same order', () => {
     const newFile = path.join(dir, 'quoted-new.csv');
     writeFileSync(oldFile, 'id,name\n1,"Smith, Ann"\n2,Lee\n');
     writeFileSync(newFile, 'id,name\n1,"Smith, Anne"\n2,Lee\n');
-    const scan = scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'name'], key: ['id'], oldPart: path.join(dir, 'q-o.csv'), newPart: path.join(dir, 'q-n.csv') });
+    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'name'], key: ['id'], oldPart: path.join(dir, 'q-o.csv'), newPart: path.join(dir, 'q-n.csv') });
     expect(scan).toEqual({ kind: 'unsuitable', reason: 'quotes' });
     const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
     expect(diff.cells).toEqual([{ key: '1', column: 'name', old: 'Smith, Ann', new: 'Smith, Anne' }]);
@@ -228,6 +228,19 @@ describe('keyed diff of two deliveries in much the same order', () => {
       code: 'KEY_DUPLICATE',
       message: expect.stringContaining('3 (2 rows: data rows 3, 40)'),
       data: expect.objectContaining({ file: newFile, line: 41 }),
+    });
+  });
+
+  it('finds a key of the old file repeated in the other half of it, which is counted apart', async () => {
+    const oldFile = path.join(dir, 'halves-old.csv');
+    const keys = Array.from({ length: 3000 }, (_, i) => `K${i}`);
+    keys[2899] = keys[9];
+    writeFileSync(oldFile, ['id,v', ...keys.map((k, i) => `${k},${i % 7}`)].join('\n') + '\n');
+    const options = { delimiter: ',', header: ['id', 'v'], key: ['id'], oldPart: path.join(dir, 'h-o.csv'), newPart: path.join(dir, 'h-n.csv') };
+    expect(await scanAligned(oldFile, oldFile, { ...options, windowBytes: 4096 })).toEqual({ kind: 'unsuitable', reason: 'repeated key' });
+    await expect(diffFiles(oldFile, oldFile, { key: ['id'] })).rejects.toMatchObject({
+      code: 'KEY_DUPLICATE',
+      message: expect.stringContaining('K9 (2 rows: data rows 10, 2900)'),
     });
   });
 

@@ -166,4 +166,49 @@ describe('diff --files and scratch space', () => {
       removeDir(outside);
     }
   });
+
+  it('diffs two long deliveries in much the same order and reports exactly what was planted in them', async () => {
+    // About 11 MB each, so the old file is counted in two halves on two threads. Planted by this test:
+    // every 997th row has a changed value in a, every 1009th row is removed, a new row follows every
+    // 1301st, and c holds a text only in row 150,000 (in the second half), which the new delivery
+    // corrects to a number: c goes from text to integer.
+    const dir = tempDir();
+    try {
+      const rows = 200_000;
+      const line = (i: number, a: number, c: string) => `R${String(i).padStart(7, '0')},${a},${(i % 40) / 4},${c},2021-0${1 + (i % 9)}-1${i % 10},alpha beta gamma ${i % 13}`;
+      const oldLines = ['id,a,b,c,d,t'];
+      const newLines = ['id,a,b,c,d,t'];
+      let changed = 0;
+      let removed = 0;
+      let added = 0;
+      for (let i = 1; i <= rows; i += 1) {
+        const c = i === 150_000 ? 'n/a' : String(i % 5);
+        oldLines.push(line(i, i % 100, c));
+        if (i % 1009 === 0) {
+          removed += 1;
+          continue;
+        }
+        const edited = i % 997 === 0;
+        if (edited || i === 150_000) changed += 1;
+        newLines.push(line(i, edited ? 1000 + i : i % 100, i === 150_000 ? '7' : c));
+        if (i % 1301 === 0) {
+          added += 1;
+          newLines.push(line(rows + i, 1, '1'));
+        }
+      }
+      writeFiles(dir, { 'old.csv': oldLines.join('\n') + '\n', 'new.csv': newLines.join('\n') + '\n' });
+      const result = await errata(dir, ['diff', '--files', 'old.csv', 'new.csv', '--key', 'id', '--format', 'json']);
+      expect(result.stderr).toBe('');
+      const [table] = JSON.parse(result.stdout).tables;
+      expect(table.summary).toEqual({
+        rows: { added, removed, changed, unchanged: rows - removed - changed },
+        cells: { changed },
+        columns: { added: [], removed: [], retyped: ['c'] },
+      });
+      expect(table.retyped).toEqual([{ column: 'c', from: 'string', to: 'integer' }]);
+      expect(table.cells.find((cell: { key: string }) => cell.key === 'R0150000')).toEqual({ key: 'R0150000', column: 'c', old: 'n/a', new: '7' });
+    } finally {
+      removeDir(dir);
+    }
+  }, 60_000);
 });

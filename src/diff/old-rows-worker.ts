@@ -1,0 +1,13 @@
+import { parentPort, workerData } from 'node:worker_threads';
+import { Unsuitable, countStretch, type RowStretch } from './old-rows.js';
+
+/** Counts one stretch of the old file on its own thread (see countStretchesInParallel in aligned-scan.ts). */
+export type StretchReply = { rows: ReturnType<typeof countStretch> } | { unsuitable: string } | { failed: string };
+
+try {
+  const rows = countStretch(workerData as RowStretch);
+  parentPort!.postMessage({ rows } satisfies StretchReply, [rows.combinations.buffer, rows.offsets.buffer, rows.keys.buffer]);
+} catch (error) {
+  const reply: StretchReply = error instanceof Unsuitable ? { unsuitable: error.message } : { failed: (error as Error).stack ?? String(error) };
+  parentPort!.postMessage(reply);
+}
