@@ -4,7 +4,8 @@ import { Worker } from 'node:worker_threads';
 import type { TypeFits } from '../engine/column-types.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
 import { LineWindow, NEWLINE } from './line-window.js';
-import { CARRIAGE_RETURN, FIT_COMBINATIONS, KeyTable, QUOTE, Unsuitable, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
+import { KeyIndex } from './key-index.js';
+import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
 import type { StretchReply } from './old-rows-worker.js';
 
 /**
@@ -92,7 +93,7 @@ interface OldFile {
   header: Buffer;
   rows: number;
   fits: Float64Array;
-  keys: StretchKeys;
+  keys: KeyIndex;
   /** File offset of each row's line. */
   offsets: Float64Array;
 }
@@ -125,8 +126,9 @@ async function countOldFile(file: string, delimiter: number, width: number, keyC
   } finally {
     second?.stop();
   }
-  const keys = new StretchKeys(stretches);
-  const offsets = new Float64Array(keys.rows);
+  const keys = KeyIndex.build(stretches) ?? unsuitable('repeated key');
+  const rows = stretches.reduce((sum, part) => sum + part.rows, 0);
+  const offsets = new Float64Array(rows);
   const combinations = new Float64Array(width * FIT_COMBINATIONS);
   let row = 0;
   for (const part of stretches) {
@@ -134,37 +136,7 @@ async function countOldFile(file: string, delimiter: number, width: number, keyC
     row += part.rows;
     for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
   }
-  return { header, rows: keys.rows, fits: fitsOf(combinations, width), keys, offsets };
-}
-
-/** The old rows by key, over the stretches' own tables, rows numbered through the whole file. */
-class StretchKeys {
-  readonly rows: number;
-  private readonly tables: KeyTable[];
-  private readonly firstRows: number[] = [];
-
-  constructor(stretches: StretchRows[]) {
-    this.tables = stretches.map((part) => KeyTable.of(part.keys, part.rows));
-    let rows = 0;
-    for (const part of stretches) {
-      this.firstRows.push(rows);
-      rows += part.rows;
-    }
-    this.rows = rows;
-    // Each stretch checked its own keys; a key in two stretches is repeated too.
-    for (let i = 1; i < this.tables.length; i += 1) {
-      for (let j = 0; j < i; j += 1) if (this.tables[j].sharesKeyWith(this.tables[i])) unsuitable('repeated key');
-    }
-  }
-
-  /** The row holding this key, or -1. */
-  find(h1: number, h2: number): number {
-    for (let i = 0; i < this.tables.length; i += 1) {
-      const row = this.tables[i].find(h1, h2);
-      if (row >= 0) return this.firstRows[i] + row;
-    }
-    return -1;
-  }
+  return { header, rows, fits: fitsOf(combinations, width), keys, offsets };
 }
 
 /** Files longer than this (or than four windows) are counted in two stretches. */

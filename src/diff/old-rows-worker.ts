@@ -6,7 +6,7 @@ export type StretchReply = { rows: ReturnType<typeof countStretch> } | { unsuita
 
 try {
   const rows = countStretch(workerData as RowStretch);
-  parentPort!.postMessage({ rows } satisfies StretchReply, [rows.combinations.buffer, rows.offsets.buffer, rows.keys.buffer]);
+  parentPort!.postMessage({ rows } satisfies StretchReply, [rows.combinations.buffer, rows.offsets.buffer, rows.first.buffer, rows.second.buffer]);
 } catch (error) {
   const reply: StretchReply = error instanceof Unsuitable ? { unsuitable: error.message } : { failed: (error as Error).stack ?? String(error) };
   parentPort!.postMessage(reply);

@@ -23,10 +23,10 @@ export interface StretchRows {
   rows: number;
   /** Per column, FIT_COMBINATIONS counts: the values whose textFits is each combination of flags. */
   combinations: Float64Array<ArrayBuffer>;
-  /** Per row: its line's file offset. */
+  /** Per row: its line's file offset, and its key's two hashes. */
   offsets: Float64Array<ArrayBuffer>;
-  /** The slots of a KeyTable of the stretch's keys, rows numbered from 0 in the stretch. */
-  keys: Int32Array<ArrayBuffer>;
+  first: Int32Array<ArrayBuffer>;
+  second: Int32Array<ArrayBuffer>;
 }
 
 export const FIT_COMBINATIONS = 32;
@@ -53,7 +53,8 @@ export function countStretch(stretch: RowStretch): StretchRows {
   for (const c of stretch.keyColumns) isKey[c] = 1;
   let capacity = Math.max(1 << 12, Math.ceil((stretch.end - stretch.start) / Math.max(1, averageLine(window))));
   let offsets = new Float64Array(capacity);
-  const keys = new KeyTable(capacity);
+  let first = new Int32Array(capacity);
+  let second = new Int32Array(capacity);
   let rows = 0;
   try {
     while (window.fill(stretch.windowBytes) > 0) {
@@ -90,12 +91,13 @@ export function countStretch(stretch: RowStretch): StretchRows {
           if (column !== width) unsuitable('ragged row');
           if (rows === capacity) {
             capacity *= 2;
-            const bigger = new Float64Array(capacity);
-            bigger.set(offsets);
-            offsets = bigger;
+            offsets = grown(offsets, new Float64Array(capacity));
+            first = grown(first, new Int32Array(capacity));
+            second = grown(second, new Int32Array(capacity));
           }
           offsets[rows] = window.base + lineStart;
-          if (!keys.insert(finish(h1), h2, rows)) unsuitable('repeated key');
+          first[rows] = finish(h1);
+          second[rows] = h2;
           rows += 1;
           column = 0;
           lineStart = i + 1;
@@ -105,7 +107,7 @@ export function countStretch(stretch: RowStretch): StretchRows {
       }
       window.pos = end;
     }
-    return { rows, combinations, offsets, keys: keys.slots };
+    return { rows, combinations, offsets, first, second };
   } finally {
     window.close();
   }
@@ -117,6 +119,11 @@ function averageLine(window: LineWindow): number {
   let lines = 0;
   for (let at = window.buf.indexOf(NEWLINE, window.pos); at >= 0 && at < window.end; at = window.buf.indexOf(NEWLINE, at + 1)) lines += 1;
   return lines ? (window.end - window.pos) / lines : window.end - window.pos;
+}
+
+function grown<T extends Float64Array<ArrayBuffer> | Int32Array<ArrayBuffer>>(array: T, bigger: T): T {
+  bigger.set(array as never);
+  return bigger;
 }
 
 const HASH_SEED_1 = 0x811c9dc5 | 0;
@@ -155,79 +162,3 @@ export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: n
   }
   return column > last ? { text, h1: finish(h1), h2 } : null;
 }
-
-/**
- * The old rows by key hash (two 32-bit hashes): open addressing, so ten million keys take a few
- * hundred megabytes rather than a JavaScript Map's gigabytes. A slot's hashes and row sit side by
- * side, so a probe touches one cache line. Two keys with both hashes equal are taken as repeated;
- * the engine then checks the whole file and names the rows.
- */
-export class KeyTable {
-  private mask: number;
-  /** Per slot: first hash, second hash, row + 1 (0: free). */
-  slots: Int32Array<ArrayBuffer>;
-  private count = 0;
-
-  constructor(expected: number) {
-    let size = 1 << 12;
-    while (size * 6 < expected * 10) size *= 2;
-    this.slots = new Int32Array(size * SLOT);
-    this.mask = size - 1;
-  }
-
-  /** A table made on another thread, from its slots and the number of keys in them. */
-  static of(slots: Int32Array<ArrayBuffer>, keys: number): KeyTable {
-    const table = new KeyTable(0);
-    table.slots = slots;
-    table.mask = slots.length / SLOT - 1;
-    table.count = keys;
-    return table;
-  }
-
-  get keys(): number {
-    return this.count;
-  }
-
-  /** Whether any key of `other` is also here. */
-  sharesKeyWith(other: KeyTable): boolean {
-    const theirs = other.slots;
-    for (let at = 0; at < theirs.length; at += SLOT) if (theirs[at + 2] !== 0 && this.find(theirs[at], theirs[at + 1]) >= 0) return true;
-    return false;
-  }
-
-  insert(h1: number, h2: number, row: number): boolean {
-    if ((this.count + 1) * 10 > (this.mask + 1) * 6) this.resize();
-    const slots = this.slots;
-    let slot = h1 & this.mask;
-    while (slots[slot * SLOT + 2] !== 0) {
-      if (slots[slot * SLOT] === h1 && slots[slot * SLOT + 1] === h2) return false;
-      slot = (slot + 1) & this.mask;
-    }
-    slots[slot * SLOT] = h1;
-    slots[slot * SLOT + 1] = h2;
-    slots[slot * SLOT + 2] = row + 1;
-    this.count += 1;
-    return true;
-  }
-
-  /** The row holding this key, or -1. */
-  find(h1: number, h2: number): number {
-    const slots = this.slots;
-    let slot = h1 & this.mask;
-    while (slots[slot * SLOT + 2] !== 0) {
-      if (slots[slot * SLOT] === h1 && slots[slot * SLOT + 1] === h2) return slots[slot * SLOT + 2] - 1;
-      slot = (slot + 1) & this.mask;
-    }
-    return -1;
-  }
-
-  private resize(): void {
-    const old = this.slots;
-    this.mask = this.mask * 2 + 1;
-    this.slots = new Int32Array((this.mask + 1) * SLOT);
-    this.count = 0;
-    for (let at = 0; at < old.length; at += SLOT) if (old[at + 2] !== 0) this.insert(old[at], old[at + 1], old[at + 2] - 1);
-  }
-}
-
-const SLOT = 4;
