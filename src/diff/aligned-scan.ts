@@ -16,11 +16,13 @@ import type { StretchReply } from './old-rows-worker.js';
  * way it counts the old file's type fits over every row and checks its keys, which the engine would
  * otherwise need the whole old file loaded for.
  *
- * The scan takes only files it can read exactly as the engine would: no quote, carriage return or
- * NUL byte, valid UTF-8, the same header on both sides, every old row as wide as the header with a
- * key. Anything else (and rows so far out of order that most lines differ) makes it step aside,
+ * The scan takes only files it can read exactly as the engine would: the same header on both sides,
+ * and an old file in valid UTF-8 without NUL bytes whose rows are each one line (a quoted field may
+ * not hold a line break), as wide as the header, with a key, and ending as the header does (LF or
+ * CR LF). Anything else (and rows so far out of order that most lines differ) makes it step aside,
  * saying why, and the engine diffs the whole files as before; so does any problem the engine finds in
- * the parts, so that its message names the real file and line.
+ * the parts, and a part whose lines the engine reads as fewer rows (a quoted line break in the new
+ * file), so that messages name the real file and line.
  *
  * Lines that differ are paired by the engine, not here: a line is written out whenever the scan is not
  * sure it is identical to the line it stands against, and a row moved elsewhere simply appears in both
@@ -35,8 +37,9 @@ export type AlignedScan =
       newPart: string;
       oldRows: number;
       newRows: number;
-      /** Lines in the two parts together. */
-      partLines: number;
+      /** Lines in each part (without its header): the rows the engine must find in it. */
+      oldPartLines: number;
+      newPartLines: number;
       /** The old file's type fits of every column but the key, over every row (exactnumber not counted). */
       oldFits: Map<string, TypeFits>;
     }
@@ -79,7 +82,7 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       const f = old.fits;
       oldFits.set(name, { n: f[at], integer: f[at + 1], number: f[at + 2], boolean: f[at + 3], date: f[at + 4], exactnumber: Number.NaN });
     });
-    return { kind: 'aligned', oldPart: options.oldPart, newPart: options.newPart, oldRows: old.rows, newRows: old.rows - parts.oldLines + parts.newLines, partLines: parts.oldLines + parts.newLines, oldFits };
+    return { kind: 'aligned', oldPart: options.oldPart, newPart: options.newPart, oldRows: old.rows, newRows: old.rows - parts.oldLines + parts.newLines, oldPartLines: parts.oldLines, newPartLines: parts.newLines, oldFits };
   } catch (error) {
     if (error instanceof Unsuitable) return { kind: 'unsuitable', reason: error.message };
     throw error;
@@ -114,10 +117,11 @@ async function countOldFile(file: string, delimiter: number, width: number, keyC
     head.close();
   }
   if (!header) unsuitable('no header');
-  if (header.includes(QUOTE) || header.includes(CARRIAGE_RETURN)) unsuitable('quoted or CRLF header');
+  // The header sets the line ending every row must have.
+  const crlf = header.length > 1 && header[header.length - 2] === CARRIAGE_RETURN;
   const size = statSync(file).size;
   const split = size - start > Math.min(SPLIT_BYTES, 4 * windowBytes) ? lineAfter(file, start + Math.floor((size - start) / 2), size) : size;
-  const stretch = (from: number, to: number): RowStretch => ({ file, start: from, end: to, delimiter, width, keyColumns, windowBytes });
+  const stretch = (from: number, to: number): RowStretch => ({ file, start: from, end: to, delimiter, width, keyColumns, windowBytes, crlf });
   const second = split < size && existsSync(fileURLToPath(WORKER)) ? countOnWorker(stretch(split, size)) : null;
   let stretches: StretchRows[];
   try {
@@ -258,8 +262,6 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
       olds.pos = stop + 1;
     };
     const writeNew = (stop: number, key: { h1: number; h2: number } | null) => {
-      const line = news.buf.subarray(news.pos, stop + 1);
-      if (line.includes(QUOTE) || line.includes(CARRIAGE_RETURN)) unsuitable('quotes or carriage returns in the new file');
       const row = key ? old.keys.find(key.h1, key.h2) : -1;
       if (row >= 0) claimed.push(row);
       newPart.write(news.buf, news.pos, stop + 1);

@@ -62,12 +62,22 @@ describe('type fits of raw bytes', () => {
 
 type Row = Record<string, string | null>;
 
-const COLUMNS = ['id', 'n', 'x', 'd', 'b', 't'];
+// A typed column last, so a line ending left on its values would show.
+const COLUMNS = ['id', 'n', 'x', 't', 'd', 'b'];
 
-/** Unquoted CSV (no value holds a comma, quote or newline); missing is an empty field. */
-function csv(rows: Row[]): string {
-  return [COLUMNS.join(','), ...rows.map((r) => COLUMNS.map((c) => r[c] ?? '').join(','))].join('\n') + '\n';
+/**
+ * CSV as exporting programs write it: missing is an empty field; `quoteText` quotes every text value
+ * (as R's write.csv does), otherwise only those that need it; `crlf` ends lines with CR LF.
+ */
+function csv(rows: Row[], dialect: { quoteText: boolean; crlf: boolean }): string {
+  const field = (v: string | null) =>
+    v === null ? '' : (dialect.quoteText && !/^-?[0-9.e]+$/.test(v)) || v === '' || /[",]/.test(v) ? `"${v.replaceAll('"', '""')}"` : v;
+  const end = dialect.crlf ? '\r\n' : '\n';
+  return [COLUMNS.join(','), ...rows.map((r) => COLUMNS.map((c) => field(r[c])).join(','))].join(end) + end;
 }
+
+/** Seeds 1-2 plain, 3-4 every text quoted, 5-6 CR LF, 7-8 both. */
+const dialectOf = (seed: number) => ({ quoteText: [3, 4, 7, 8].includes(seed), crlf: seed >= 5 });
 
 /**
  * A pair as a new delivery of the same table looks: mostly the same lines in the same order, with
@@ -83,7 +93,7 @@ function alignedPair(seed: number): { oldRows: Row[]; newRows: Row[] } {
     x: (odd) => (rand() < odd ? 'about 3' : rand() < 0.05 ? null : pick(['1.5', '2.25', '-0.125', '3', '1e3', '7.0'])),
     d: (odd) => (rand() < odd ? '2021-02-30' : rand() < 0.05 ? null : `2021-${String(1 + Math.floor(rand() * 12)).padStart(2, '0')}-${String(1 + Math.floor(rand() * 28)).padStart(2, '0')}`),
     b: (odd) => (rand() < odd ? 'yes' : rand() < 0.05 ? null : pick(['true', 'false', 'TRUE', 'False'])),
-    t: () => (rand() < 0.05 ? null : pick(['alpha', 'Ærøskøbing', 'naïve café', '東京', 'emoji 🙂', 'x y'])),
+    t: () => (rand() < 0.05 ? null : pick(['alpha', 'Ærøskøbing', 'naïve café', '東京', 'emoji 🙂', 'x y', 'Smith, Ann', 'say "hi"', ''])),
   };
   const fresh = (id: string, odd: number): Row => ({ id, n: value.n(odd), x: value.x(odd), d: value.d(odd), b: value.b(odd), t: value.t(odd) });
   const oldRows: Row[] = [];
@@ -91,6 +101,8 @@ function alignedPair(seed: number): { oldRows: Row[]; newRows: Row[] } {
   // Each odd value once, in a row that is often removed or edited: the column's type then changes.
   const planted = new Map([[5, 'n'], [700, 'x'], [1500, 'd'], [2200, 'b']]);
   for (const [at, column] of planted) oldRows[at][column] = value[column](1);
+  // On even seeds the odd one in n is the empty string (quoted: "" is a value, not a missing one).
+  if (seed % 2 === 0) oldRows[5].n = '';
   const newRows: Row[] = [];
   let added = 0;
   for (const [at, row] of oldRows.entries()) {
@@ -127,7 +139,7 @@ async function oracle(oldFile: string, newFile: string, oldRows: Row[], newRows:
           bool_and(regexp_full_match(v, '-?(0|[1-9][0-9]*)(\\.[0-9]+)?([eE][-+]?[0-9]+)?')) AS number,
           bool_and(lower(v) IN ('true', 'false')) AS boolean,
           bool_and(regexp_full_match(v, '[0-9]{4}-[0-9]{2}-[0-9]{2}') AND TRY_CAST(v AS DATE) IS NOT NULL) AS date
-        FROM (SELECT "${column}" AS v FROM read_csv('${file}', header = true, all_varchar = true)) WHERE v IS NOT NULL`)
+        FROM (SELECT "${column}" AS v FROM read_csv('${file}', header = true, all_varchar = true, allow_quoted_nulls = false)) WHERE v IS NOT NULL`)
     ).getRowObjectsJS();
     return (['integer', 'number', 'boolean', 'date'] as const).find((t) => row[t] === true) ?? 'string';
   };
@@ -175,8 +187,8 @@ describe('keyed diff of two deliveries in much the same order', () => {
       const { oldRows, newRows } = alignedPair(seed);
       const oldFile = path.join(dir, `old-${seed}.csv`);
       const newFile = path.join(dir, `new-${seed}.csv`);
-      writeFileSync(oldFile, csv(oldRows));
-      writeFileSync(newFile, csv(newRows));
+      writeFileSync(oldFile, csv(oldRows, dialectOf(seed)));
+      writeFileSync(newFile, csv(newRows, dialectOf(seed)));
 
       // Small windows, so the scan refills many times and sees moved rows both near and far.
       const scan = await scanAligned(oldFile, newFile, {
@@ -206,15 +218,28 @@ describe('keyed diff of two deliveries in much the same order', () => {
     expect(retypes).toBeGreaterThanOrEqual(6);
   }, 120_000);
 
-  it('steps aside for quoted fields, and the whole-file diff still answers', async () => {
-    const oldFile = path.join(dir, 'quoted-old.csv');
-    const newFile = path.join(dir, 'quoted-new.csv');
-    writeFileSync(oldFile, 'id,name\n1,"Smith, Ann"\n2,Lee\n');
-    writeFileSync(newFile, 'id,name\n1,"Smith, Anne"\n2,Lee\n');
-    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'name'], key: ['id'], oldPart: path.join(dir, 'q-o.csv'), newPart: path.join(dir, 'q-n.csv') });
-    expect(scan).toEqual({ kind: 'unsuitable', reason: 'quotes' });
+  it('steps aside for a line break inside quotes in the old file, and the whole-file diff answers', async () => {
+    const oldFile = path.join(dir, 'break-old.csv');
+    const newFile = path.join(dir, 'break-new.csv');
+    writeFileSync(oldFile, 'id,note\n1,"two\nlines"\n2,Lee\n3,Kim\n');
+    writeFileSync(newFile, 'id,note\n1,"two\nlines"\n2,Lea\n3,Kim\n');
+    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'note'], key: ['id'], oldPart: path.join(dir, 'b-o.csv'), newPart: path.join(dir, 'b-n.csv') });
+    expect(scan).toEqual({ kind: 'unsuitable', reason: 'line break inside quotes' });
     const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
-    expect(diff.cells).toEqual([{ key: '1', column: 'name', old: 'Smith, Ann', new: 'Smith, Anne' }]);
+    expect(diff.cells).toEqual([{ key: '2', column: 'note', old: 'Lee', new: 'Lea' }]);
+  });
+
+  it('leaves a new file with a line break inside quotes to the whole-file diff, which reads it as one row', async () => {
+    const oldFile = path.join(dir, 'newbreak-old.csv');
+    const newFile = path.join(dir, 'newbreak-new.csv');
+    writeFileSync(oldFile, 'id,note\n1,a\n2,b\n3,c\n');
+    // Row 2's note now spans two lines; its second line looks like a row of its own ("4,x").
+    writeFileSync(newFile, 'id,note\n1,a\n2,"b\n4,x"\n3,c\n');
+    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'note'], key: ['id'], oldPart: path.join(dir, 'nb-o.csv'), newPart: path.join(dir, 'nb-n.csv') });
+    expect(scan.kind).toBe('aligned');
+    const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+    expect(diff.summary.rows).toEqual({ added: 0, removed: 0, changed: 1, unchanged: 2 });
+    expect(diff.cells).toEqual([{ key: '2', column: 'note', old: 'b', new: 'b\n4,x' }]);
   });
 
   it('names the new file and its data rows when a changed line repeats the key of an unchanged one', async () => {
