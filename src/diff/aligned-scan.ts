@@ -53,6 +53,8 @@ export interface AlignedScanOptions {
   newPart: string;
   /** Bytes kept in view past each cursor (default 4 MiB); tests use small ones to cross many refills. */
   windowBytes?: number;
+  /** How far the scan is: counting the old file, then comparing the two, each from 0 to 1. */
+  onProgress?: (step: 'count' | 'compare', share: number) => void;
 }
 
 /** Bytes kept in view past each cursor. */
@@ -73,7 +75,7 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
   if (keyColumns.some((i) => i < 0)) return { kind: 'unsuitable', reason: 'key column missing' };
   try {
     const window = options.windowBytes ?? WINDOW;
-    const old = await countOldFile(oldFile, delimiter[0], options.header.length, keyColumns, window);
+    const old = await countOldFile(oldFile, delimiter[0], options.header.length, keyColumns, window, options.onProgress);
     const parts = alignFiles(oldFile, newFile, old, delimiter[0], keyColumns, options, window);
     const oldFits = new Map<string, TypeFits>();
     options.header.forEach((name, c) => {
@@ -106,7 +108,14 @@ interface OldFile {
  * is counted in two stretches at once, the second on a worker thread where the compiled worker exists
  * (under the test runner, which runs the sources, both stretches are counted here in turn).
  */
-async function countOldFile(file: string, delimiter: number, width: number, keyColumns: number[], windowBytes: number): Promise<OldFile> {
+async function countOldFile(
+  file: string,
+  delimiter: number,
+  width: number,
+  keyColumns: number[],
+  windowBytes: number,
+  onProgress: AlignedScanOptions['onProgress'],
+): Promise<OldFile> {
   const head = new LineWindow(file, 1 << 16);
   let header: Buffer | null;
   let start: number;
@@ -125,7 +134,8 @@ async function countOldFile(file: string, delimiter: number, width: number, keyC
   const second = split < size && existsSync(fileURLToPath(WORKER)) ? countOnWorker(stretch(split, size)) : null;
   let stretches: StretchRows[];
   try {
-    const first = countStretch(stretch(start, split));
+    // The halves go at much the same pace, so the first one's progress stands for both.
+    const first = countStretch(stretch(start, split), onProgress && ((share) => onProgress('count', share)));
     stretches = [first, second ? await second.rows : countStretch(stretch(split, size))];
   } finally {
     second?.stop();
@@ -268,9 +278,15 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
       news.pos = stop + 1;
     };
     let seen = 0;
+    const newSize = Math.max(1, statSync(newFile).size);
+    let reported = 0;
     for (;;) {
       const oldLeft = olds.fill(window);
       const newLeft = news.fill(window);
+      if (options.onProgress && news.offset - reported > newSize / 100) {
+        reported = news.offset;
+        options.onProgress('compare', reported / newSize);
+      }
       if (oldLeft === 0 && newLeft === 0) break;
       if (newLeft === 0) {
         writeOld(olds.lineEnd());

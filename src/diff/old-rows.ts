@@ -47,7 +47,7 @@ export function unsuitable(reason: string): never {
  * and hold its key, and end as the header does (LF, or CR LF); fields may be quoted, but a quoted field
  * may not hold a line break (so that a line is a row). The stretch must be UTF-8 without NUL bytes.
  */
-export function countStretch(stretch: RowStretch): StretchRows {
+export function countStretch(stretch: RowStretch, onBlock?: (share: number) => void): StretchRows {
   const { delimiter, width, crlf } = stretch;
   const window = new LineWindow(stretch.file, stretch.windowBytes * 2, stretch.start, stretch.end);
   // One count per column and combination of fits: one addition per value, summed up at the end.
@@ -135,6 +135,7 @@ export function countStretch(stretch: RowStretch): StretchRows {
         }
       }
       window.pos = end;
+      onBlock?.((window.offset - stretch.start) / Math.max(1, stretch.end - stretch.start));
     }
     return { rows, combinations, offsets, first, second };
   } finally {

@@ -4,7 +4,7 @@ import { DuckDBInstance, LIST, VARCHAR, listValue } from '@duckdb/node-api';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { scanAligned } from '../../src/diff/aligned-scan.js';
 import { createRandom } from '../../src/demo/random.js';
-import { diffFiles } from '../../src/diff/file-diff.js';
+import { diffFiles, type FileDiffProgress } from '../../src/diff/file-diff.js';
 import type { TableDiff } from '../../src/diff/types.js';
 import { fitsTypeSql, type ValueType } from '../../src/engine/column-types.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE, textFits } from '../../src/engine/text-fits.js';
@@ -254,6 +254,27 @@ describe('keyed diff of two deliveries in much the same order', () => {
       message: expect.stringContaining('3 (2 rows: data rows 3, 40)'),
       data: expect.objectContaining({ file: newFile, line: 41 }),
     });
+  });
+
+  it('reports how far it is: counting the old file, comparing the two, then the rows that differ', async () => {
+    const { oldRows, newRows } = alignedPair(3);
+    const oldFile = path.join(dir, 'progress-old.csv');
+    const newFile = path.join(dir, 'progress-new.csv');
+    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
+    writeFileSync(newFile, csv(newRows, dialectOf(1)));
+    const events: FileDiffProgress[] = [];
+    await diffFiles(oldFile, newFile, { key: ['id'], onProgress: (event) => events.push(event) });
+    const steps = events.map((e) => e.step).filter((step, i, all) => step !== all[i - 1]);
+    expect(steps).toEqual(['count', 'compare', 'differing rows']);
+    for (const step of ['count', 'compare'] as const) {
+      const shares = events.flatMap((e) => (e.step === step ? [e.share] : []));
+      expect(shares).toEqual([...shares].sort((a, b) => a - b));
+      expect(shares.at(-1)).toBeGreaterThan(0.9);
+      expect(shares.at(-1)).toBeLessThanOrEqual(1);
+    }
+    const whole: FileDiffProgress[] = [];
+    await diffFiles(oldFile, newFile, { key: [], onProgress: (event) => whole.push(event) });
+    expect(whole).toEqual([{ step: 'whole files' }]);
   });
 
   it('finds a key of the old file repeated in the other half of it, which is counted apart', async () => {

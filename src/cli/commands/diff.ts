@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
-import { diffFiles } from '../../diff/file-diff.js';
+import { diffFiles, type FileDiffProgress } from '../../diff/file-diff.js';
 import { splitRange } from '../../git/range.js';
 import { diffRevisions } from '../../diff/revision-diff.js';
 import type { MultisetDiff, TableDiff } from '../../diff/types.js';
@@ -62,7 +62,13 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
         if (options.key === undefined) throw usage('--files needs --key COL[,COL] (or --no-key to compare rows without a key)');
         const key = options.key === false ? [] : options.key.split(',').map((k) => k.trim()).filter(Boolean);
         output.progress('diffing files…');
-        const result = await diffFiles(options.files[0], options.files[1], { key, tolerance, cellLimit: limit, workDir: await projectWorkDir() });
+        const result = await diffFiles(options.files[0], options.files[1], {
+          key,
+          tolerance,
+          cellLimit: limit,
+          workDir: await projectWorkDir(),
+          onProgress: (event) => output.progress(fileDiffProgressText(event)),
+        });
         output.endProgress();
         emit(renderFileDiff(result, options, output.color));
         if (options.exitCode && hasDifferences(result)) setExit(1);
@@ -145,4 +151,10 @@ function renderTableDiffs(diffs: TableDiff[], options: DiffCommandOptions, paint
     case 'text':
       return diffs.map((d) => renderDiffText(d, paint)).join('\n');
   }
+}
+
+const FILE_DIFF_STEPS = { count: 'reading OLD', compare: 'comparing OLD and NEW', 'differing rows': 'comparing the rows that differ', 'whole files': 'loading both files' };
+
+function fileDiffProgressText(event: FileDiffProgress): string {
+  return `diffing files: ${FILE_DIFF_STEPS[event.step]}${'share' in event ? ` ${Math.floor(event.share * 100)} %` : ''}…`;
 }
