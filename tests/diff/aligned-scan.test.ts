@@ -277,6 +277,43 @@ describe('keyed diff of two deliveries in much the same order', () => {
     expect(whole).toEqual([{ step: 'whole files' }]);
   });
 
+  it('steps aside before reading the old file through when the new one has its rows in another order', async () => {
+    const { oldRows } = alignedPair(5);
+    const oldFile = path.join(dir, 'order-old.csv');
+    const newFile = path.join(dir, 'order-new.csv');
+    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
+    // Sorted by the text column instead of the key: the same rows, hardly a line where it was.
+    const resorted = [...oldRows].sort((a, b) => ((a.t ?? '') < (b.t ?? '') ? -1 : (a.t ?? '') > (b.t ?? '') ? 1 : 0));
+    resorted[7] = { ...resorted[7], x: '42' };
+    writeFileSync(newFile, csv(resorted, dialectOf(1)));
+    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: COLUMNS, key: ['id'], oldPart: path.join(dir, 'r-o.csv'), newPart: path.join(dir, 'r-n.csv'), windowBytes: 4096 });
+    expect(scan).toEqual({ kind: 'unsuitable', reason: 'the files start with different lines' });
+    const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+    expect(diff.summary.rows).toEqual({ added: 0, removed: 0, changed: 1, unchanged: oldRows.length - 1 });
+    expect(diff.cells).toEqual([{ key: resorted[7].id, column: 'x', old: oldRows.find((r) => r.id === resorted[7].id)!.x, new: '42' }]);
+  });
+
+  it('pairs rows by a key of two columns that are not the first, in a TSV file', async () => {
+    const oldFile = path.join(dir, 'pair-old.tsv');
+    const newFile = path.join(dir, 'pair-new.tsv');
+    const header = 'visit\tsite\tid\tweight';
+    const rows = Array.from({ length: 40 }, (_, i) => `v${i % 3}\t${i % 2 ? 'north' : 'south'}\t${i}\t${60 + i}`);
+    writeFileSync(oldFile, [header, ...rows].join('\n') + '\n');
+    // By hand: (south, 4) weighs 99 instead of 64; (north, 7) is gone; (east, 7) is new (same id,
+    // another site); (south, 10) moved to the end unchanged.
+    const changed = rows.map((r, i) => (i === 4 ? 'v1\tsouth\t4\t99' : r)).filter((_, i) => i !== 7 && i !== 10);
+    changed.splice(20, 0, 'v0\teast\t7\t50');
+    changed.push(rows[10]);
+    writeFileSync(newFile, [header, ...changed].join('\n') + '\n');
+    const scan = await scanAligned(oldFile, newFile, { delimiter: '\t', header: header.split('\t'), key: ['site', 'id'], oldPart: path.join(dir, 'p-o.tsv'), newPart: path.join(dir, 'p-n.tsv') });
+    expect(scan.kind).toBe('aligned');
+    const diff = (await diffFiles(oldFile, newFile, { key: ['site', 'id'] })) as TableDiff;
+    expect(diff.summary.rows).toEqual({ added: 1, removed: 1, changed: 1, unchanged: 38 });
+    expect(diff.cells).toEqual([{ key: '["south","4"]', column: 'weight', old: '64', new: '99' }]);
+    expect(diff.addedKeys).toEqual(['["east","7"]']);
+    expect(diff.removedKeys).toEqual(['["north","7"]']);
+  });
+
   it('finds a key of the old file repeated in the other half of it, which is counted apart', async () => {
     const oldFile = path.join(dir, 'halves-old.csv');
     const keys = Array.from({ length: 3000 }, (_, i) => `K${i}`);
