@@ -85,7 +85,17 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       const f = old.fits;
       oldFits.set(name, { n: f[at], integer: f[at + 1], number: f[at + 2], boolean: f[at + 3], date: f[at + 4], exactnumber: Number.NaN });
     });
-    return { kind: 'aligned', oldPart: options.oldPart, newPart: options.newPart, oldRows: old.rows, newRows: old.rows - parts.oldLines + parts.newLines, oldPartLines: parts.oldLines, newPartLines: parts.newLines, oldFits };
+    return {
+      kind: 'aligned',
+      oldPart: options.oldPart,
+      newPart: options.newPart,
+      oldRows: old.rows,
+      // Every old line is either in an identical run (and so in NEW too) or in the old part.
+      newRows: old.rows - parts.oldLines + parts.newLines,
+      oldPartLines: parts.oldLines,
+      newPartLines: parts.newLines,
+      oldFits,
+    };
   } catch (error) {
     if (error instanceof Unsuitable) return { kind: 'unsuitable', reason: error.message };
     throw error;
