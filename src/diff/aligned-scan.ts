@@ -59,11 +59,8 @@ export interface AlignedScanOptions {
 
 /** Bytes kept in view past each cursor. */
 const WINDOW = 4 << 20;
-/**
- * A new line whose old row lies at most this share of the window ahead means the old lines before it
- * went (or moved on); further ahead, the new line is the one that moved.
- */
-const AHEAD_SHARE = 1 / 16;
+/** How far on in NEW the walk looks for an old line, to tell an added line from a removed one. */
+const LOOKAHEAD_BYTES = 8 << 10;
 /** Past this share of differing bytes the files are too far apart for the scan to pay. */
 const MOST_DIFFER = 0.3;
 
@@ -76,8 +73,18 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
   try {
     const window = options.windowBytes ?? WINDOW;
     if (!similarStart(oldFile, newFile, Math.min(window, SAMPLE_BYTES))) unsuitable('the files start with different lines');
-    const old = await countOldFile(oldFile, delimiter[0], options.header.length, keyColumns, window, options.onProgress);
-    const parts = alignFiles(oldFile, newFile, old, delimiter[0], keyColumns, options, window);
+    const header = oldHeader(oldFile);
+    // A long old file is counted on worker threads while this thread walks both files.
+    const counting = countOldFile(oldFile, header, delimiter[0], options.header.length, keyColumns, window, options.onProgress);
+    let parts: WalkedParts;
+    try {
+      parts = alignFiles(oldFile, newFile, header.bytes, delimiter[0], keyColumns, options, window);
+    } catch (error) {
+      counting.stop();
+      throw error;
+    }
+    const old = await counting.result();
+    checkWrittenKeys(parts, old);
     const oldFits = new Map<string, TypeFits>();
     options.header.forEach((name, c) => {
       if (keyColumns.includes(c)) return;
@@ -131,7 +138,6 @@ function similarStart(oldFile: string, newFile: string, bytes: number): boolean 
 }
 
 interface OldFile {
-  header: Buffer;
   rows: number;
   fits: Float64Array;
   keys: KeyIndex;
@@ -139,54 +145,71 @@ interface OldFile {
   offsets: Float64Array;
 }
 
+/** The old file's header line (newline included), where its rows start, and their line ending. */
+function oldHeader(file: string): { bytes: Buffer; start: number; crlf: boolean } {
+  const head = new LineWindow(file, 1 << 16);
+  try {
+    const bytes = head.header() ?? unsuitable('no header');
+    // The header sets the line ending every row must have.
+    return { bytes, start: head.offset, crlf: bytes.length > 1 && bytes[bytes.length - 2] === CARRIAGE_RETURN };
+  } finally {
+    head.close();
+  }
+}
+
 /**
  * Pass 1: the old file's rows, their keys (which must be present and unique) and type fits. A long file
- * is counted in two stretches at once, the second on a worker thread where the compiled worker exists
- * (under the test runner, which runs the sources, both stretches are counted here in turn).
+ * is counted in two stretches at once on two worker threads, started here, while the caller walks the
+ * files; `result` waits for them. Where the compiled worker does not exist (the test runner runs the
+ * sources) or the file is short, `result` counts it on this thread.
  */
-async function countOldFile(
+function countOldFile(
   file: string,
+  header: { start: number; crlf: boolean },
   delimiter: number,
   width: number,
   keyColumns: number[],
   windowBytes: number,
   onProgress: AlignedScanOptions['onProgress'],
-): Promise<OldFile> {
-  const head = new LineWindow(file, 1 << 16);
-  let header: Buffer | null;
-  let start: number;
-  try {
-    header = head.header();
-    start = head.offset;
-  } finally {
-    head.close();
-  }
-  if (!header) unsuitable('no header');
-  // The header sets the line ending every row must have.
-  const crlf = header.length > 1 && header[header.length - 2] === CARRIAGE_RETURN;
+): { result(): Promise<OldFile>; stop(): void } {
+  const { start, crlf } = header;
   const size = statSync(file).size;
   const split = size - start > Math.min(SPLIT_BYTES, 4 * windowBytes) ? lineAfter(file, start + Math.floor((size - start) / 2), size) : size;
   const stretch = (from: number, to: number): RowStretch => ({ file, start: from, end: to, delimiter, width, keyColumns, windowBytes, crlf });
-  const second = split < size && existsSync(fileURLToPath(WORKER)) ? countOnWorker(stretch(split, size)) : null;
-  let stretches: StretchRows[];
-  try {
-    // The halves go at much the same pace, so the first one's progress stands for both.
-    const first = countStretch(stretch(start, split), onProgress && ((share) => onProgress('count', share)));
-    stretches = [first, second ? await second.rows : countStretch(stretch(split, size))];
-  } finally {
-    second?.stop();
-  }
-  const keys = KeyIndex.build(stretches) ?? unsuitable('repeated key');
-  const rows = stretches.reduce((sum, part) => sum + part.rows, 0);
-  const offsets = new Float64Array(rows);
-  const combinations = new Float64Array(width * FIT_COMBINATIONS);
-  let row = 0;
-  for (const part of stretches) {
-    offsets.set(part.offsets.subarray(0, part.rows), row);
-    row += part.rows;
-    for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
-  }
-  return { header, rows, fits: fitsOf(combinations, width), keys, offsets };
+  const bounds: Array<[number, number]> = split < size ? [[start, split], [split, size]] : [[start, size]];
+  // Each worker's share done; their messages are read while `result` waits.
+  const shares = bounds.map(() => 0);
+  const reportShare = (i: number) => (share: number) => {
+    shares[i] = share;
+    onProgress?.('count', shares.reduce((sum, s) => sum + s, 0) / shares.length);
+  };
+  const workers = split < size && existsSync(fileURLToPath(WORKER)) ? bounds.map(([from, to], i) => countOnWorker(stretch(from, to), reportShare(i))) : null;
+  return {
+    stop() {
+      for (const w of workers ?? []) w.stop();
+    },
+    async result() {
+      let stretches: StretchRows[];
+      try {
+        stretches = workers
+          ? await Promise.all(workers.map((w) => w.rows))
+          : bounds.map(([from, to], i) => countStretch(stretch(from, to), reportShare(i)));
+      } finally {
+        for (const w of workers ?? []) w.stop();
+      }
+      const keys = KeyIndex.build(stretches) ?? unsuitable('repeated key');
+      const rows = stretches.reduce((sum, part) => sum + part.rows, 0);
+      const offsets = new Float64Array(rows);
+      const combinations = new Float64Array(width * FIT_COMBINATIONS);
+      let row = 0;
+      for (const part of stretches) {
+        offsets.set(part.offsets.subarray(0, part.rows), row);
+        row += part.rows;
+        for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
+      }
+      return { rows, fits: fitsOf(combinations, width), keys, offsets };
+    },
+  };
 }
 
 /** Files longer than this (or than four windows) are counted in two stretches. */
@@ -211,11 +234,12 @@ function lineAfter(file: string, from: number, end: number): number {
 }
 
 /** Count a stretch on a worker thread; `stop` ends the thread if the answer is no longer wanted. */
-function countOnWorker(stretch: RowStretch): { rows: Promise<StretchRows>; stop(): void } {
+function countOnWorker(stretch: RowStretch, onShare: (share: number) => void): { rows: Promise<StretchRows>; stop(): void } {
   const worker = new Worker(WORKER, { workerData: stretch });
   const rows = new Promise<StretchRows>((resolve, reject) => {
-    worker.once('message', (reply: StretchReply) => {
-      if ('rows' in reply) resolve(reply.rows);
+    worker.on('message', (reply: StretchReply) => {
+      if ('share' in reply) onShare(reply.share);
+      else if ('rows' in reply) resolve(reply.rows);
       else if ('unsuitable' in reply) reject(new Unsuitable(reply.unsuitable));
       else reject(new Error(reply.failed));
     });
@@ -281,37 +305,51 @@ class LineWriter {
   }
 }
 
+/** What the walk wrote: lines per part, and the keys of the written lines, to check against pass 1. */
+interface WalkedParts {
+  oldLines: number;
+  newLines: number;
+  /** Per written old line: its key's hashes and its file offset. */
+  oldKeys: number[];
+  /** Per written new line with a key: its key's hashes. */
+  newKeys: number[];
+}
+
 /**
- * Pass 2: walk both files together. Identical runs are skipped; at a line that differs, a new line
- * whose key is not among the old rows, or whose old row lies behind or far ahead, is written to the new
- * part; otherwise the old line is written to the old part (its row went, or moved on). Lines with the
- * same key are both written.
+ * Pass 2: walk both files together. Identical runs are skipped. At a line that differs: when both
+ * lines have the same key, both are written; otherwise the new line is written to the new part if the
+ * old line turns up unchanged a little further on in the new file (the new line was added, or moved
+ * here), else the old line to the old part (its row went, changed or moved on). The walk needs nothing
+ * from pass 1, so the two run at once; checkWrittenKeys then holds its lines against the old rows.
  */
-function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: number, keyColumns: number[], options: AlignedScanOptions, window: number) {
+function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter: number, keyColumns: number[], options: AlignedScanOptions, window: number): WalkedParts {
   const olds = new LineWindow(oldFile, window * 4);
   const news = new LineWindow(newFile, window * 4);
-  const aheadLimit = window * AHEAD_SHARE;
-  const oldPart = new LineWriter(options.oldPart, old.header);
-  const newPart = new LineWriter(options.newPart, old.header);
-  const written = new Uint8Array(old.rows);
-  /** Old rows holding the key of a written new line: each must be written too, or the key is repeated. */
-  const claimed: number[] = [];
+  const lookahead = Math.min(LOOKAHEAD_BYTES, window / 4);
+  const oldPart = new LineWriter(options.oldPart, header);
+  const newPart = new LineWriter(options.newPart, header);
+  const oldKeys: number[] = [];
+  const newKeys: number[] = [];
   try {
     olds.header();
-    if (!news.header()?.equals(old.header)) unsuitable('headers differ');
+    if (!news.header()?.equals(header)) unsuitable('headers differ');
     const writeOld = (stop: number) => {
-      const key = keyHashes(olds.buf, olds.pos, stop, delimiter, keyColumns);
-      const row = key ? old.keys.find(key.h1, key.h2) : -1;
-      if (row < 0 || old.offsets[row] !== olds.offset) unsuitable('old line not found by its key');
-      written[row] = 1;
+      const key = keyHashes(olds.buf, olds.pos, stop, delimiter, keyColumns) ?? unsuitable('an old line without its key');
+      oldKeys.push(key.h1, key.h2, olds.offset);
       oldPart.write(olds.buf, olds.pos, stop + 1);
       olds.pos = stop + 1;
     };
     const writeNew = (stop: number, key: { h1: number; h2: number } | null) => {
-      const row = key ? old.keys.find(key.h1, key.h2) : -1;
-      if (row >= 0) claimed.push(row);
+      if (key) newKeys.push(key.h1, key.h2);
       newPart.write(news.buf, news.pos, stop + 1);
       news.pos = stop + 1;
+    };
+    /** Whether the old line ending at `oldStop` is a line of NEW soon after the one ending at `newStop`. */
+    const comesLater = (oldStop: number, newStop: number) => {
+      const line = olds.buf.subarray(olds.pos, oldStop + 1);
+      const from = newStop + 1;
+      const at = news.buf.subarray(from, Math.min(news.end, from + lookahead)).indexOf(line);
+      return at === 0 || (at > 0 && news.buf[from + at - 1] === NEWLINE);
     };
     let seen = 0;
     const newSize = Math.max(1, statSync(newFile).size);
@@ -352,21 +390,35 @@ function alignFiles(oldFile: string, newFile: string, old: OldFile, delimiter: n
       if (newKey && oldKey && newKey.text === oldKey.text) {
         writeOld(oldStop);
         writeNew(newStop, newKey);
-      } else {
-        const row = newKey ? old.keys.find(newKey.h1, newKey.h2) : -1;
-        const ahead = row < 0 ? -1 : old.offsets[row] - olds.offset;
-        if (ahead >= 0 && ahead <= aheadLimit) writeOld(oldStop);
-        else writeNew(newStop, newKey);
-      }
+      } else if (comesLater(oldStop, newStop)) writeNew(newStop, newKey);
+      else writeOld(oldStop);
       if (seen > window && oldPart.bytes + newPart.bytes > MOST_DIFFER * 2 * seen) unsuitable('most lines differ');
     }
-    for (const row of claimed) if (written[row] === 0) unsuitable('a key of the new file is repeated');
-    return { oldLines: oldPart.lines, newLines: newPart.lines };
+    return { oldLines: oldPart.lines, newLines: newPart.lines, oldKeys, newKeys };
   } finally {
     olds.close();
     news.close();
     oldPart.close();
     newPart.close();
+  }
+}
+
+/**
+ * Every written old line must be the old row its key names (a line whose key hashes lead elsewhere
+ * means a repeated key or two keys sharing hashes), and every written new line whose key an old row
+ * holds needs that old row written too: otherwise the old row stood in an identical run, so NEW holds
+ * its key twice. The engine then diffs the whole files and names the rows.
+ */
+function checkWrittenKeys(parts: WalkedParts, old: OldFile): void {
+  const written = new Uint8Array(old.rows);
+  for (let i = 0; i < parts.oldKeys.length; i += 3) {
+    const row = old.keys.find(parts.oldKeys[i], parts.oldKeys[i + 1]);
+    if (row < 0 || old.offsets[row] !== parts.oldKeys[i + 2]) unsuitable('old line not found by its key');
+    written[row] = 1;
+  }
+  for (let i = 0; i < parts.newKeys.length; i += 2) {
+    const row = old.keys.find(parts.newKeys[i], parts.newKeys[i + 1]);
+    if (row >= 0 && written[row] === 0) unsuitable('a key of the new file is repeated');
   }
 }
 

@@ -256,7 +256,7 @@ describe('keyed diff of two deliveries in much the same order', () => {
     });
   });
 
-  it('reports how far it is: counting the old file, comparing the two, then the rows that differ', async () => {
+  it('reports how far it is: comparing the two files, counting the old one, then the rows that differ', async () => {
     const { oldRows, newRows } = alignedPair(3);
     const oldFile = path.join(dir, 'progress-old.csv');
     const newFile = path.join(dir, 'progress-new.csv');
@@ -265,7 +265,8 @@ describe('keyed diff of two deliveries in much the same order', () => {
     const events: FileDiffProgress[] = [];
     await diffFiles(oldFile, newFile, { key: ['id'], onProgress: (event) => events.push(event) });
     const steps = events.map((e) => e.step).filter((step, i, all) => step !== all[i - 1]);
-    expect(steps).toEqual(['count', 'compare', 'differing rows']);
+    // Here the old file is counted after the walk; the command line counts a long one at the same time.
+    expect(steps).toEqual(['compare', 'count', 'differing rows']);
     for (const step of ['count', 'compare'] as const) {
       const shares = events.flatMap((e) => (e.step === step ? [e.share] : []));
       expect(shares).toEqual([...shares].sort((a, b) => a - b));
