@@ -85,12 +85,14 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
     const compared = (column: ColumnInfo, side: 'old' | 'new'): Compared => ({ ...column, as: types?.[side].get(column.name) ?? valueTypeOf(column.type) });
     const common = commonNames.map((c) => ({ old: compared(oldInfoByName.get(c)!, 'old'), new: compared(newInfoByName.get(c)!, 'new') }));
     const retyped: ColumnRetype[] = common.filter((c) => c.new.as !== c.old.as).map((c) => ({ column: c.new.name, from: c.old.as, to: c.new.as }));
+    // A summary (no cells asked for) needs the flags, not the values.
+    const keepTexts = options.cellLimit !== 0 || options.cellTable !== undefined;
     const flags = common.map((c, i) => `${differs(`"ov${i}"`, `"nv${i}"`, c.old, c.new, options.tolerance)} AS "d${i}"`);
     const anyFlag = common.length ? common.map((_, i) => `"d${i}"`).join(' OR ') : 'false';
     await session.run(`CREATE TEMP TABLE ${ident(work)} AS
       SELECT * FROM (
         SELECT "key", ${key.map((_, i) => `"k${i}"`).join(', ')}, "added", "removed",
-               ${[...flags, ...common.flatMap((c, i) => [`${textSql(`"ov${i}"`, c.old.type)} AS "o${i}"`, `${textSql(`"nv${i}"`, c.new.type)} AS "n${i}"`])].join(',\n               ')}
+               ${[...flags, ...(keepTexts ? common.flatMap((c, i) => [`${textSql(`"ov${i}"`, c.old.type)} AS "o${i}"`, `${textSql(`"nv${i}"`, c.new.type)} AS "n${i}"`]) : [])].join(',\n               ')}
         FROM ${ident(rowsWork)}
       ) WHERE "added" OR "removed" OR ${anyFlag}`);
     await session.run(`DROP ${options.parts ? 'VIEW' : 'TABLE'} ${ident(rowsWork)}`);
@@ -114,7 +116,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
     const keyOrder = key.map((_, i) => `"k${i}"`).join(', ');
     const keysWhere = async (flag: string) =>
       (await session.all<{ key: string }>(`SELECT "key" FROM ${ident(work)} WHERE ${flag} ORDER BY ${keyOrder}`)).map((r) => r.key);
-    const cells = common.length ? await changedCells(session, work, common.map((c) => c.new), keyOrder, options) : [];
+    const cells = common.length && keepTexts ? await changedCells(session, work, common.map((c) => c.new), keyOrder, options) : [];
     return {
       table: options.table ?? newTable,
       key,
