@@ -1,4 +1,4 @@
-import { mkdirSync, rmSync } from 'node:fs';
+import { accessSync, constants, mkdirSync, rmSync, statSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
@@ -98,6 +98,8 @@ async function alignedParts(
   workDir: string,
   onProgress: FileDiffOptions['onProgress'],
 ): Promise<AlignedScan> {
+  // A missing or unreadable file is the whole-file diff's to report, with its message.
+  if (![oldFile, newFile].every(isReadableFile)) return { kind: 'unsuitable', reason: 'a file is missing or not a file' };
   const format = formatOf(oldFile);
   if ((format !== 'csv' && format !== 'tsv') || formatOf(newFile) !== format) return { kind: 'unsuitable', reason: 'not both CSV or both TSV' };
   const delimiter = format === 'tsv' ? '\t' : ',';
@@ -118,6 +120,15 @@ async function alignedParts(
     newPart: part('new'),
     onProgress: onProgress && ((step, share) => onProgress({ step, share })),
   });
+}
+
+function isReadableFile(file: string): boolean {
+  try {
+    accessSync(file, constants.R_OK);
+    return statSync(file).isFile();
+  } catch {
+    return false;
+  }
 }
 
 /**

@@ -328,6 +328,15 @@ describe('keyed diff of two deliveries in much the same order', () => {
     });
   });
 
+  it('leaves a missing file to the whole-file diff, which names it', async () => {
+    const present = path.join(dir, 'present.csv');
+    const missing = path.join(dir, 'missing.csv');
+    writeFileSync(present, 'id,v\n1,a\n');
+    for (const [oldFile, newFile] of [[missing, present], [present, missing]]) {
+      await expect(diffFiles(oldFile, newFile, { key: ['id'] })).rejects.toMatchObject({ code: 'INPUT_MISSING', data: { file: missing } });
+    }
+  });
+
   it('names the new file and line of a ragged row among the differing lines', async () => {
     const oldFile = path.join(dir, 'ragged-old.csv');
     const newFile = path.join(dir, 'ragged-new.csv');
