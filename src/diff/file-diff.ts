@@ -112,14 +112,21 @@ async function alignedParts(
   }
   mkdirSync(workDir, { recursive: true });
   const part = (side: string) => path.join(workDir, `${side}-part.${format}`);
-  return scanAligned(oldFile, newFile, {
-    delimiter,
-    header,
-    key,
-    oldPart: part('old'),
-    newPart: part('new'),
-    onProgress: onProgress && ((step, share) => onProgress({ step, share })),
-  });
+  try {
+    return await scanAligned(oldFile, newFile, {
+      delimiter,
+      header,
+      key,
+      oldPart: part('old'),
+      newPart: part('new'),
+      onProgress: onProgress && ((step, share) => onProgress({ step, share })),
+    });
+  } catch (error) {
+    // A file that cannot be read, or parts that cannot be written (a full disk): the whole-file diff
+    // meets the same trouble and reports it as it always has.
+    if (typeof (error as NodeJS.ErrnoException).code === 'string') return { kind: 'unsuitable', reason: (error as NodeJS.ErrnoException).code! };
+    throw error;
+  }
 }
 
 function isReadableFile(file: string): boolean {
