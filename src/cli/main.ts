@@ -9,6 +9,7 @@ import { VERSION } from '../version.js';
 import { createOutput } from './output.js';
 import { commandsFor } from './commands/index.js';
 import { acquireLock, describeHolder } from './lock.js';
+import { projectFileAbove } from './context.js';
 
 /** Exit codes everywhere: 0 ok, 1 findings, 2 bad usage or bad input. */
 export const EXIT = { ok: 0, findings: 1, error: 2 } as const;
@@ -84,7 +85,7 @@ function commandPath(command: Command): string {
 
 async function lockFor(command: string, options: { quiet?: boolean }): Promise<(() => void) | null> {
   const mode = LOCKING[command];
-  if (!mode) return null;
+  if (!mode || !projectFileAbove(process.cwd())) return null;
   const root = await findRepoRoot(process.cwd());
   // Outside a data project (no project, a bare clone, `diff --files` in some other repository) there
   // is nothing of errata's to protect, and no .errata/ folder should appear.

@@ -2,7 +2,6 @@ import type { Command } from 'commander';
 import { ErrataError } from '../../errors.js';
 import { diffFiles, type FileDiffProgress } from '../../diff/file-diff.js';
 import { splitRange } from '../../git/range.js';
-import { diffRevisions } from '../../diff/revision-diff.js';
 import type { MultisetDiff, TableDiff } from '../../diff/types.js';
 import { renderDiffHtml } from '../../render/diff-html.js';
 import { renderDiffJson, renderMultisetJson } from '../../render/diff-json.js';
@@ -10,7 +9,6 @@ import { renderDiffMarkdown, renderMultisetMarkdown } from '../../render/diff-ma
 import { renderDiffText, renderMultisetText } from '../../render/diff-text.js';
 import { renderConflicts } from '../../render/build-report.js';
 import { resolveRevision } from '../../git/repo.js';
-import { diffCache, tableCache } from '../build-session.js';
 import { projectRoot, projectTree, projectWorkDir, workDir } from '../context.js';
 import { createOutput } from '../output.js';
 import { formatOption } from '../options.js';
@@ -74,6 +72,8 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
         if (options.exitCode && hasDifferences(result)) setExit(1);
         return;
       }
+      // Loaded here, not with the command: a diff of two files needs neither (nor the YAML parser).
+      const [{ diffRevisions }, { diffCache, tableCache }] = await Promise.all([import('../../diff/revision-diff.js'), import('../build-session.js')]);
       const root = await projectRoot();
       const { base, head, tableName } = await parseRange(root, range, table);
       const work = workDir(root);
