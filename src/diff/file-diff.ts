@@ -123,8 +123,10 @@ async function alignedParts(
     });
   } catch (error) {
     // A file that cannot be read, or parts that cannot be written (a full disk): the whole-file diff
-    // meets the same trouble and reports it as it always has.
+    // meets the same trouble and reports it as it always has. Memory that cannot be had is the
+    // whole-file diff's to do without: it spills to disk.
     if (typeof (error as NodeJS.ErrnoException).code === 'string') return { kind: 'unsuitable', reason: (error as NodeJS.ErrnoException).code! };
+    if (error instanceof RangeError) return { kind: 'unsuitable', reason: error.message };
     throw error;
   }
 }

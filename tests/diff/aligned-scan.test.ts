@@ -328,6 +328,17 @@ describe('keyed diff of two deliveries in much the same order', () => {
     });
   });
 
+  it('leaves an old file with more rows than its memory allows to the whole-file diff', async () => {
+    const { oldRows, newRows } = alignedPair(2);
+    const oldFile = path.join(dir, 'big-old.csv');
+    const newFile = path.join(dir, 'big-new.csv');
+    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
+    writeFileSync(newFile, csv(newRows, dialectOf(1)));
+    const options = { delimiter: ',', header: COLUMNS, key: ['id'], oldPart: path.join(dir, 'g-o.csv'), newPart: path.join(dir, 'g-n.csv') };
+    expect(await scanAligned(oldFile, newFile, { ...options, maxRows: 2000 })).toEqual({ kind: 'unsuitable', reason: 'too many rows for the memory of the scan' });
+    expect((await scanAligned(oldFile, newFile, { ...options, maxRows: 4000 })).kind).toBe('aligned');
+  });
+
   it('leaves a missing file to the whole-file diff, which names it', async () => {
     const present = path.join(dir, 'present.csv');
     const missing = path.join(dir, 'missing.csv');
