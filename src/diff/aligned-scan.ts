@@ -5,7 +5,7 @@ import type { TypeFits } from '../engine/column-types.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
 import { LineWindow, NEWLINE } from './line-window.js';
 import { KeyIndex } from './key-index.js';
-import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
+import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, averageLine, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
 import type { StretchReply } from './old-rows-worker.js';
 
 /**
@@ -131,10 +131,7 @@ function estimatedRows(file: string): number {
   const window = new LineWindow(file, SAMPLE_BYTES + 1);
   try {
     window.header();
-    const sample = window.fill(SAMPLE_BYTES);
-    let lines = 0;
-    for (let at = window.buf.indexOf(NEWLINE, window.pos); at >= 0 && at < window.end; at = window.buf.indexOf(NEWLINE, at + 1)) lines += 1;
-    return lines === 0 ? 0 : (statSync(file).size / sample) * lines;
+    return statSync(file).size / Math.max(1, averageLine(window));
   } finally {
     window.close();
   }

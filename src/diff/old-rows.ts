@@ -158,8 +158,8 @@ function countOf(bytes: Buffer, byte: number): number {
   return count;
 }
 
-/** Bytes per line over the first block of the stretch. */
-function averageLine(window: LineWindow): number {
+/** Bytes per line over the first block of the window from its cursor. */
+export function averageLine(window: LineWindow): number {
   window.fill(1 << 16);
   let lines = 0;
   for (let at = window.buf.indexOf(NEWLINE, window.pos); at >= 0 && at < window.end; at = window.buf.indexOf(NEWLINE, at + 1)) lines += 1;
