@@ -58,6 +58,8 @@ export interface AlignedScanOptions {
    * whole-file diff, which spills to disk, is the one whose memory stays bounded.
    */
   maxRows?: number;
+  /** Work for this thread while worker threads finish counting the old file (after the walk). */
+  meanwhile?: () => Promise<unknown>;
   /** How far the scan is: counting the old file, then comparing the two, each from 0 to 1. */
   onProgress?: (step: 'count' | 'compare', share: number) => void;
 }
@@ -85,6 +87,12 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
     let parts: WalkedParts;
     try {
       parts = alignFiles(oldFile, newFile, header.bytes, delimiter[0], keyColumns, options, window);
+    } catch (error) {
+      counting.stop();
+      throw error;
+    }
+    try {
+      await options.meanwhile?.();
     } catch (error) {
       counting.stop();
       throw error;

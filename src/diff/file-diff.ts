@@ -41,11 +41,14 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
   // DuckDB's limit covers its buffers, not everything the process holds: with 1.4 GB and freed memory
   // returned, a diff of two 10,000,000-row files peaked at 1.78 GB in all (2.5 GB with a 2 GB limit
   // and the allocator's defaults; 1.86-1.92 GB with 1.5 GB).
-  const session = await Session.open({ memoryLimit: options.memoryLimit ?? '1.4GB', spillDir, returnFreedMemory: true });
+  // Opened while the aligned scan's workers count, when there are any: loading DuckDB takes 0.2 s.
+  const opened: { session: Session | null } = { session: null };
+  const openSession = async () => (opened.session ??= await Session.open({ memoryLimit: options.memoryLimit ?? '1.4GB', spillDir, returnFreedMemory: true }));
   try {
     const key = options.key ?? [];
     const table = path.basename(newFile);
-    const aligned = key.length ? await alignedParts(oldFile, newFile, key, spillDir, options.onProgress) : null;
+    const aligned = key.length ? await alignedParts(oldFile, newFile, key, spillDir, options.onProgress, openSession) : null;
+    const session = await openSession();
     if (aligned?.kind === 'aligned') {
       options.onProgress?.({ step: 'differing rows' });
       // Parts this small are diffed faster on one thread: 0.83 s against 1.06 s for 67,000 lines.
@@ -80,7 +83,7 @@ export async function diffFiles(oldFile: string, newFile: string, options: FileD
       deliveredText: { oldFits },
     });
   } finally {
-    session.close();
+    opened.session?.close();
     rmSync(spillDir, { recursive: true, force: true });
   }
 }
@@ -97,6 +100,7 @@ async function alignedParts(
   key: readonly string[],
   workDir: string,
   onProgress: FileDiffOptions['onProgress'],
+  meanwhile: () => Promise<unknown>,
 ): Promise<AlignedScan> {
   // A missing or unreadable file is the whole-file diff's to report, with its message.
   if (![oldFile, newFile].every(isReadableFile)) return { kind: 'unsuitable', reason: 'a file is missing or not a file' };
@@ -120,6 +124,7 @@ async function alignedParts(
       oldPart: part('old'),
       newPart: part('new'),
       onProgress: onProgress && ((step, share) => onProgress({ step, share })),
+      meanwhile,
     });
   } catch (error) {
     // A file that cannot be read, or parts that cannot be written (a full disk): the whole-file diff
