@@ -24,16 +24,25 @@ export async function projectTree(root: string, revision?: string): Promise<Proj
 
 /** The .errata/tmp of the project the command runs in, or undefined outside any errata project. */
 export async function projectWorkDir(start = process.cwd()): Promise<string | undefined> {
-  if (!projectFileAbove(start)) return undefined;
+  const root = await dataProjectRoot(start);
+  return root ? workDir(root) : undefined;
+}
+
+/**
+ * The root of the errata project `start` is in: a git repository with errata.yaml at its top. Null
+ * outside one (no project, a bare clone, some other repository).
+ */
+export async function dataProjectRoot(start = process.cwd()): Promise<string | null> {
+  if (!projectFileAbove(start)) return null;
   const root = await findRepoRoot(start);
-  return root && existsSync(path.join(root, 'errata.yaml')) ? workDir(root) : undefined;
+  return root && existsSync(path.join(root, 'errata.yaml')) ? root : null;
 }
 
 /**
  * Whether an errata.yaml sits in `dir` or a folder above it: without one there is no project to find,
  * and git (isomorphic-git, 0.06 s to load) need not be asked where the repository is.
  */
-export function projectFileAbove(dir: string): boolean {
+function projectFileAbove(dir: string): boolean {
   for (let at = path.resolve(dir); ; at = path.dirname(at)) {
     if (existsSync(path.join(at, 'errata.yaml'))) return true;
     if (path.dirname(at) === at) return false;

@@ -1,15 +1,12 @@
-import { existsSync } from 'node:fs';
-import path from 'node:path';
 import { Command, CommanderError } from 'commander';
 import { ErrataError } from '../errors.js';
-import { findRepoRoot } from '../git/repo.js';
 import { setStatementTimeout } from '../engine/session.js';
 import { faultPause } from '../fault.js';
 import { VERSION } from '../version.js';
 import { createOutput } from './output.js';
 import { commandsFor } from './commands/index.js';
 import { acquireLock, describeHolder } from './lock.js';
-import { projectFileAbove } from './context.js';
+import { dataProjectRoot } from './context.js';
 
 /** Exit codes everywhere: 0 ok, 1 findings, 2 bad usage or bad input. */
 export const EXIT = { ok: 0, findings: 1, error: 2 } as const;
@@ -85,11 +82,11 @@ function commandPath(command: Command): string {
 
 async function lockFor(command: string, options: { quiet?: boolean }): Promise<(() => void) | null> {
   const mode = LOCKING[command];
-  if (!mode || !projectFileAbove(process.cwd())) return null;
-  const root = await findRepoRoot(process.cwd());
+  if (!mode) return null;
   // Outside a data project (no project, a bare clone, `diff --files` in some other repository) there
   // is nothing of errata's to protect, and no .errata/ folder should appear.
-  if (!root || !existsSync(path.join(root, 'errata.yaml'))) return null;
+  const root = await dataProjectRoot();
+  if (!root) return null;
   const output = createOutput(options);
   return acquireLock(root, {
     command,

@@ -80,18 +80,13 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
   try {
     const window = options.windowBytes ?? WINDOW;
     if (!similarStart(oldFile, newFile, Math.min(window, SAMPLE_BYTES))) unsuitable('the files start with different lines');
-    if (estimatedRows(oldFile) > (options.maxRows ?? SCAN_MEMORY / MEMORY_PER_ROW)) unsuitable('too many rows for the memory of the scan');
-    const header = oldHeader(oldFile);
+    const header = oldHead(oldFile);
+    if (header.estimatedRows > (options.maxRows ?? SCAN_MEMORY / MEMORY_PER_ROW)) unsuitable('too many rows for the memory of the scan');
     // A long old file is counted on worker threads while this thread walks both files.
     const counting = countOldFile(oldFile, header, delimiter[0], options.header.length, keyColumns, window, options.onProgress);
     let parts: WalkedParts;
     try {
       parts = alignFiles(oldFile, newFile, header.bytes, delimiter[0], keyColumns, options, window);
-    } catch (error) {
-      counting.stop();
-      throw error;
-    }
-    try {
       await options.meanwhile?.();
     } catch (error) {
       counting.stop();
@@ -134,17 +129,6 @@ const COUNTS = 5;
 const SCAN_MEMORY = 2 ** 30;
 const MEMORY_PER_ROW = 64;
 
-/** The old file's rows, judged by its size and the length of its first lines. */
-function estimatedRows(file: string): number {
-  const window = new LineWindow(file, SAMPLE_BYTES + 1);
-  try {
-    window.header();
-    return statSync(file).size / Math.max(1, averageLine(window));
-  } finally {
-    window.close();
-  }
-}
-
 /** How much of NEW's start is looked for in twice as much of OLD's before the scan begins. */
 const SAMPLE_BYTES = 1 << 20;
 
@@ -178,13 +162,18 @@ interface OldFile {
   offsets: Float64Array;
 }
 
-/** The old file's header line (newline included), where its rows start, and their line ending. */
-function oldHeader(file: string): { bytes: Buffer; start: number; crlf: boolean } {
+/**
+ * The old file's header line (newline included), where its rows start, their line ending, and how
+ * many rows it has, judged by its size and the length of its first lines.
+ */
+function oldHead(file: string): { bytes: Buffer; start: number; crlf: boolean; estimatedRows: number } {
   const head = new LineWindow(file, 1 << 16);
   try {
     const bytes = head.header() ?? unsuitable('no header');
+    const start = head.offset;
     // The header sets the line ending every row must have.
-    return { bytes, start: head.offset, crlf: bytes.length > 1 && bytes[bytes.length - 2] === CARRIAGE_RETURN };
+    const crlf = bytes.length > 1 && bytes[bytes.length - 2] === CARRIAGE_RETURN;
+    return { bytes, start, crlf, estimatedRows: statSync(file).size / Math.max(1, averageLine(head)) };
   } finally {
     head.close();
   }

@@ -2,7 +2,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { DuckDBInstance, LIST, VARCHAR, listValue } from '@duckdb/node-api';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { scanAligned } from '../../src/diff/aligned-scan.js';
+import { scanAligned, type AlignedScanOptions } from '../../src/diff/aligned-scan.js';
 import { createRandom } from '../../src/demo/random.js';
 import { diffFiles, type FileDiffProgress } from '../../src/diff/file-diff.js';
 import type { TableDiff } from '../../src/diff/types.js';
@@ -181,29 +181,30 @@ describe('keyed diff of two deliveries in much the same order', () => {
   });
   afterAll(() => removeDir(dir));
 
+  /** OLD and NEW written under the test folder as NAME-old.EXT and NAME-new.EXT. */
+  const filePair = (name: string, oldText: string, newText: string, ext = 'csv') => {
+    const [oldFile, newFile] = ['old', 'new'].map((side) => path.join(dir, `${name}-${side}.${ext}`));
+    writeFileSync(oldFile, oldText);
+    writeFileSync(newFile, newText);
+    return { oldFile, newFile };
+  };
+
+  /** The aligned scan of a pair, its parts written beside OLD; comma-separated and keyed on id unless told. */
+  const scan = (oldFile: string, newFile: string, options: Partial<AlignedScanOptions> & { header: readonly string[] }) =>
+    scanAligned(oldFile, newFile, { delimiter: ',', key: ['id'], oldPart: `${oldFile}.old-part`, newPart: `${oldFile}.new-part`, ...options });
+
   it('agrees with a plain-SQL oracle over the whole files while reading only the differing lines into the engine', async () => {
     let retypes = 0;
     for (let seed = 1; seed <= 8; seed += 1) {
       const { oldRows, newRows } = alignedPair(seed);
-      const oldFile = path.join(dir, `old-${seed}.csv`);
-      const newFile = path.join(dir, `new-${seed}.csv`);
-      writeFileSync(oldFile, csv(oldRows, dialectOf(seed)));
-      writeFileSync(newFile, csv(newRows, dialectOf(seed)));
-
+      const { oldFile, newFile } = filePair(`seed-${seed}`, csv(oldRows, dialectOf(seed)), csv(newRows, dialectOf(seed)));
       // Small windows, so the scan refills many times and sees moved rows both near and far.
-      const scan = await scanAligned(oldFile, newFile, {
-        delimiter: ',',
-        header: COLUMNS,
-        key: ['id'],
-        oldPart: path.join(dir, `old-part-${seed}.csv`),
-        newPart: path.join(dir, `new-part-${seed}.csv`),
-        windowBytes: 4096,
-      });
-      expect(scan.kind, `seed ${seed}: ${scan.kind === 'unsuitable' ? scan.reason : ''}`).toBe('aligned');
-      if (scan.kind !== 'aligned') continue;
-      expect(scan.oldRows).toBe(oldRows.length);
-      expect(scan.newRows).toBe(newRows.length);
-      const partLines = readFileSync(scan.newPart, 'utf8').split('\n').length - 2;
+      const scanned = await scan(oldFile, newFile, { header: COLUMNS, windowBytes: 4096 });
+      expect(scanned.kind, `seed ${seed}: ${scanned.kind === 'unsuitable' ? scanned.reason : ''}`).toBe('aligned');
+      if (scanned.kind !== 'aligned') continue;
+      expect(scanned.oldRows).toBe(oldRows.length);
+      expect(scanned.newRows).toBe(newRows.length);
+      const partLines = readFileSync(scanned.newPart, 'utf8').split('\n').length - 2;
       expect(partLines, `seed ${seed}`).toBeLessThan(newRows.length / 4);
 
       const expected = await oracle(oldFile, newFile, oldRows, newRows);
@@ -219,36 +220,25 @@ describe('keyed diff of two deliveries in much the same order', () => {
   }, 120_000);
 
   it('steps aside for a line break inside quotes in the old file, and the whole-file diff answers', async () => {
-    const oldFile = path.join(dir, 'break-old.csv');
-    const newFile = path.join(dir, 'break-new.csv');
-    writeFileSync(oldFile, 'id,note\n1,"two\nlines"\n2,Lee\n3,Kim\n');
-    writeFileSync(newFile, 'id,note\n1,"two\nlines"\n2,Lea\n3,Kim\n');
-    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'note'], key: ['id'], oldPart: path.join(dir, 'b-o.csv'), newPart: path.join(dir, 'b-n.csv') });
-    expect(scan).toEqual({ kind: 'unsuitable', reason: 'line break inside quotes' });
+    const { oldFile, newFile } = filePair('break', 'id,note\n1,"two\nlines"\n2,Lee\n3,Kim\n', 'id,note\n1,"two\nlines"\n2,Lea\n3,Kim\n');
+    expect(await scan(oldFile, newFile, { header: ['id', 'note'] })).toEqual({ kind: 'unsuitable', reason: 'line break inside quotes' });
     const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
     expect(diff.cells).toEqual([{ key: '2', column: 'note', old: 'Lee', new: 'Lea' }]);
   });
 
   it('leaves a new file with a line break inside quotes to the whole-file diff, which reads it as one row', async () => {
-    const oldFile = path.join(dir, 'newbreak-old.csv');
-    const newFile = path.join(dir, 'newbreak-new.csv');
-    writeFileSync(oldFile, 'id,note\n1,a\n2,b\n3,c\n');
     // Row 2's note now spans two lines; its second line looks like a row of its own ("4,x").
-    writeFileSync(newFile, 'id,note\n1,a\n2,"b\n4,x"\n3,c\n');
-    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: ['id', 'note'], key: ['id'], oldPart: path.join(dir, 'nb-o.csv'), newPart: path.join(dir, 'nb-n.csv') });
-    expect(scan.kind).toBe('aligned');
+    const { oldFile, newFile } = filePair('newbreak', 'id,note\n1,a\n2,b\n3,c\n', 'id,note\n1,a\n2,"b\n4,x"\n3,c\n');
+    expect((await scan(oldFile, newFile, { header: ['id', 'note'] })).kind).toBe('aligned');
     const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
     expect(diff.summary.rows).toEqual({ added: 0, removed: 0, changed: 1, unchanged: 2 });
     expect(diff.cells).toEqual([{ key: '2', column: 'note', old: 'b', new: 'b\n4,x' }]);
   });
 
   it('names the new file and its data rows when a changed line repeats the key of an unchanged one', async () => {
-    const oldFile = path.join(dir, 'dup-old.csv');
-    const newFile = path.join(dir, 'dup-new.csv');
     const lines = Array.from({ length: 50 }, (_, i) => `${i + 1},v${i + 1}`);
-    writeFileSync(oldFile, ['id,v', ...lines].join('\n') + '\n');
     // Data row 40 of the new file says id 3 again; row 3 is unchanged, so only the whole file shows it.
-    writeFileSync(newFile, ['id,v', ...lines.map((l, i) => (i === 39 ? '3,v40' : l))].join('\n') + '\n');
+    const { oldFile, newFile } = filePair('dup', ['id,v', ...lines].join('\n') + '\n', ['id,v', ...lines.map((l, i) => (i === 39 ? '3,v40' : l))].join('\n') + '\n');
     await expect(diffFiles(oldFile, newFile, { key: ['id'] })).rejects.toMatchObject({
       code: 'KEY_DUPLICATE',
       message: expect.stringContaining('3 (2 rows: data rows 3, 40)'),
@@ -258,10 +248,7 @@ describe('keyed diff of two deliveries in much the same order', () => {
 
   it('reports how far it is: comparing the two files, counting the old one, then the rows that differ', async () => {
     const { oldRows, newRows } = alignedPair(3);
-    const oldFile = path.join(dir, 'progress-old.csv');
-    const newFile = path.join(dir, 'progress-new.csv');
-    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
-    writeFileSync(newFile, csv(newRows, dialectOf(1)));
+    const { oldFile, newFile } = filePair('progress', csv(oldRows, dialectOf(1)), csv(newRows, dialectOf(1)));
     const events: FileDiffProgress[] = [];
     await diffFiles(oldFile, newFile, { key: ['id'], onProgress: (event) => events.push(event) });
     const steps = events.map((e) => e.step).filter((step, i, all) => step !== all[i - 1]);
@@ -280,34 +267,26 @@ describe('keyed diff of two deliveries in much the same order', () => {
 
   it('steps aside before reading the old file through when the new one has its rows in another order', async () => {
     const { oldRows } = alignedPair(5);
-    const oldFile = path.join(dir, 'order-old.csv');
-    const newFile = path.join(dir, 'order-new.csv');
-    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
     // Sorted by the text column instead of the key: the same rows, hardly a line where it was.
     const resorted = [...oldRows].sort((a, b) => ((a.t ?? '') < (b.t ?? '') ? -1 : (a.t ?? '') > (b.t ?? '') ? 1 : 0));
     resorted[7] = { ...resorted[7], x: '42' };
-    writeFileSync(newFile, csv(resorted, dialectOf(1)));
-    const scan = await scanAligned(oldFile, newFile, { delimiter: ',', header: COLUMNS, key: ['id'], oldPart: path.join(dir, 'r-o.csv'), newPart: path.join(dir, 'r-n.csv'), windowBytes: 4096 });
-    expect(scan).toEqual({ kind: 'unsuitable', reason: 'the files start with different lines' });
+    const { oldFile, newFile } = filePair('order', csv(oldRows, dialectOf(1)), csv(resorted, dialectOf(1)));
+    expect(await scan(oldFile, newFile, { header: COLUMNS, windowBytes: 4096 })).toEqual({ kind: 'unsuitable', reason: 'the files start with different lines' });
     const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
     expect(diff.summary.rows).toEqual({ added: 0, removed: 0, changed: 1, unchanged: oldRows.length - 1 });
     expect(diff.cells).toEqual([{ key: resorted[7].id, column: 'x', old: oldRows.find((r) => r.id === resorted[7].id)!.x, new: '42' }]);
   });
 
   it('pairs rows by a key of two columns that are not the first, in a TSV file', async () => {
-    const oldFile = path.join(dir, 'pair-old.tsv');
-    const newFile = path.join(dir, 'pair-new.tsv');
     const header = 'visit\tsite\tid\tweight';
     const rows = Array.from({ length: 40 }, (_, i) => `v${i % 3}\t${i % 2 ? 'north' : 'south'}\t${i}\t${60 + i}`);
-    writeFileSync(oldFile, [header, ...rows].join('\n') + '\n');
     // By hand: (south, 4) weighs 99 instead of 64; (north, 7) is gone; (east, 7) is new (same id,
     // another site); (south, 10) moved to the end unchanged.
     const changed = rows.map((r, i) => (i === 4 ? 'v1\tsouth\t4\t99' : r)).filter((_, i) => i !== 7 && i !== 10);
     changed.splice(20, 0, 'v0\teast\t7\t50');
     changed.push(rows[10]);
-    writeFileSync(newFile, [header, ...changed].join('\n') + '\n');
-    const scan = await scanAligned(oldFile, newFile, { delimiter: '\t', header: header.split('\t'), key: ['site', 'id'], oldPart: path.join(dir, 'p-o.tsv'), newPart: path.join(dir, 'p-n.tsv') });
-    expect(scan.kind).toBe('aligned');
+    const { oldFile, newFile } = filePair('pair', [header, ...rows].join('\n') + '\n', [header, ...changed].join('\n') + '\n', 'tsv');
+    expect((await scan(oldFile, newFile, { delimiter: '\t', header: header.split('\t'), key: ['site', 'id'] })).kind).toBe('aligned');
     const diff = (await diffFiles(oldFile, newFile, { key: ['site', 'id'] })) as TableDiff;
     expect(diff.summary.rows).toEqual({ added: 1, removed: 1, changed: 1, unchanged: 38 });
     expect(diff.cells).toEqual([{ key: '["south","4"]', column: 'weight', old: '64', new: '99' }]);
@@ -320,8 +299,7 @@ describe('keyed diff of two deliveries in much the same order', () => {
     const keys = Array.from({ length: 3000 }, (_, i) => `K${i}`);
     keys[2899] = keys[9];
     writeFileSync(oldFile, ['id,v', ...keys.map((k, i) => `${k},${i % 7}`)].join('\n') + '\n');
-    const options = { delimiter: ',', header: ['id', 'v'], key: ['id'], oldPart: path.join(dir, 'h-o.csv'), newPart: path.join(dir, 'h-n.csv') };
-    expect(await scanAligned(oldFile, oldFile, { ...options, windowBytes: 4096 })).toEqual({ kind: 'unsuitable', reason: 'repeated key' });
+    expect(await scan(oldFile, oldFile, { header: ['id', 'v'], windowBytes: 4096 })).toEqual({ kind: 'unsuitable', reason: 'repeated key' });
     await expect(diffFiles(oldFile, oldFile, { key: ['id'] })).rejects.toMatchObject({
       code: 'KEY_DUPLICATE',
       message: expect.stringContaining('K9 (2 rows: data rows 10, 2900)'),
@@ -330,13 +308,9 @@ describe('keyed diff of two deliveries in much the same order', () => {
 
   it('leaves an old file with more rows than its memory allows to the whole-file diff', async () => {
     const { oldRows, newRows } = alignedPair(2);
-    const oldFile = path.join(dir, 'big-old.csv');
-    const newFile = path.join(dir, 'big-new.csv');
-    writeFileSync(oldFile, csv(oldRows, dialectOf(1)));
-    writeFileSync(newFile, csv(newRows, dialectOf(1)));
-    const options = { delimiter: ',', header: COLUMNS, key: ['id'], oldPart: path.join(dir, 'g-o.csv'), newPart: path.join(dir, 'g-n.csv') };
-    expect(await scanAligned(oldFile, newFile, { ...options, maxRows: 2000 })).toEqual({ kind: 'unsuitable', reason: 'too many rows for the memory of the scan' });
-    expect((await scanAligned(oldFile, newFile, { ...options, maxRows: 4000 })).kind).toBe('aligned');
+    const { oldFile, newFile } = filePair('big', csv(oldRows, dialectOf(1)), csv(newRows, dialectOf(1)));
+    expect(await scan(oldFile, newFile, { header: COLUMNS, maxRows: 2000 })).toEqual({ kind: 'unsuitable', reason: 'too many rows for the memory of the scan' });
+    expect((await scan(oldFile, newFile, { header: COLUMNS, maxRows: 4000 })).kind).toBe('aligned');
   });
 
   it('leaves a missing file to the whole-file diff, which names it', async () => {
@@ -349,11 +323,8 @@ describe('keyed diff of two deliveries in much the same order', () => {
   });
 
   it('names the new file and line of a ragged row among the differing lines', async () => {
-    const oldFile = path.join(dir, 'ragged-old.csv');
-    const newFile = path.join(dir, 'ragged-new.csv');
     const lines = Array.from({ length: 50 }, (_, i) => `${i + 1},v${i + 1},w`);
-    writeFileSync(oldFile, ['id,v,w', ...lines].join('\n') + '\n');
-    writeFileSync(newFile, ['id,v,w', ...lines.map((l, i) => (i === 29 ? '30,v30' : l))].join('\n') + '\n');
+    const { oldFile, newFile } = filePair('ragged', ['id,v,w', ...lines].join('\n') + '\n', ['id,v,w', ...lines.map((l, i) => (i === 29 ? '30,v30' : l))].join('\n') + '\n');
     await expect(diffFiles(oldFile, newFile, { key: ['id'] })).rejects.toMatchObject({
       code: 'CSV_MALFORMED',
       data: expect.objectContaining({ file: newFile, line: 31 }),
