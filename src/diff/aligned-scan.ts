@@ -4,7 +4,8 @@ import { Worker } from 'node:worker_threads';
 import type { TypeFits } from '../engine/column-types.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
 import { LineWindow, NEWLINE } from './line-window.js';
-import { KeyIndex } from './key-index.js';
+import { checkKeys, type KeyCheck } from './key-check.js';
+import type { KeyCheckReply } from './key-check-worker.js';
 import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, averageLine, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
 import type { StretchReply } from './old-rows-worker.js';
 
@@ -58,8 +59,18 @@ export interface AlignedScanOptions {
    * whole-file diff, which spills to disk, is the one whose memory stays bounded.
    */
   maxRows?: number;
-  /** Work for this thread while worker threads finish counting the old file (after the walk). */
-  meanwhile?: () => Promise<unknown>;
+  /**
+   * Work to start while worker threads finish counting the old file: called once the walk has
+   * written the parts, with the number of lines in each (the parts may still be found unsuitable).
+   */
+  meanwhile?: (walked: { oldLines: number; newLines: number }) => Promise<unknown>;
+  /**
+   * Work on the parts to do while the keys are checked (on a worker thread for a long file): called
+   * once the old file is counted, with the scan's answer as it stands. The scan waits for it, and
+   * steps aside all the same if the keys fail the check, so its outcome counts only when the scan
+   * answers `aligned`.
+   */
+  whileKeysChecked?: (aligned: Extract<AlignedScan, { kind: 'aligned' }>) => Promise<unknown>;
   /** How far the scan is: counting the old file, then comparing the two, each from 0 to 1. */
   onProgress?: (step: 'count' | 'compare', share: number) => void;
 }
@@ -87,13 +98,12 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
     let parts: WalkedParts;
     try {
       parts = alignFiles(oldFile, newFile, header.bytes, delimiter[0], keyColumns, options, window);
-      await options.meanwhile?.();
+      await options.meanwhile?.({ oldLines: parts.oldLines, newLines: parts.newLines });
     } catch (error) {
       counting.stop();
       throw error;
     }
     const old = await counting.result();
-    checkWrittenKeys(parts, old);
     const oldFits = new Map<string, TypeFits>();
     options.header.forEach((name, c) => {
       if (keyColumns.includes(c)) return;
@@ -101,7 +111,7 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       const f = old.fits;
       oldFits.set(name, { n: f[at], integer: f[at + 1], number: f[at + 2], boolean: f[at + 3], date: f[at + 4], exactnumber: Number.NaN });
     });
-    return {
+    const aligned: Extract<AlignedScan, { kind: 'aligned' }> = {
       kind: 'aligned',
       oldPart: options.oldPart,
       newPart: options.newPart,
@@ -112,6 +122,15 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       newPartLines: parts.newLines,
       oldFits,
     };
+    const keysChecked = checkKeysAside(
+      { stretches: old.stretches, oldKeys: Float64Array.from(parts.oldKeys), newKeys: Float64Array.from(parts.newKeys) },
+      old.onWorkers,
+    );
+    const alongside = options.whileKeysChecked?.(aligned);
+    const [keys, work] = await Promise.allSettled([keysChecked, alongside]);
+    if (keys.status === 'rejected') throw keys.reason;
+    if (work.status === 'rejected') throw work.reason;
+    return aligned;
   } catch (error) {
     if (error instanceof Unsuitable) return { kind: 'unsuitable', reason: error.message };
     throw error;
@@ -157,9 +176,10 @@ function similarStart(oldFile: string, newFile: string, bytes: number): boolean 
 interface OldFile {
   rows: number;
   fits: Float64Array;
-  keys: KeyIndex;
-  /** File offset of each row's line. */
-  offsets: Float64Array;
+  /** The rows as counted, stretch by stretch, for the key check. */
+  stretches: StretchRows[];
+  /** Whether they were counted on worker threads (then the keys are checked on one too). */
+  onWorkers: boolean;
 }
 
 /**
@@ -219,17 +239,10 @@ function countOldFile(
       } finally {
         for (const w of workers ?? []) w.stop();
       }
-      const keys = KeyIndex.build(stretches) ?? unsuitable('repeated key');
       const rows = stretches.reduce((sum, part) => sum + part.rows, 0);
-      const offsets = new Float64Array(rows);
       const combinations = new Float64Array(width * FIT_COMBINATIONS);
-      let row = 0;
-      for (const part of stretches) {
-        offsets.set(part.offsets.subarray(0, part.rows), row);
-        row += part.rows;
-        for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
-      }
-      return { rows, fits: fitsOf(combinations, width), keys, offsets };
+      for (const part of stretches) for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
+      return { rows, fits: fitsOf(combinations, width), stretches, onWorkers: workers !== null };
     },
   };
 }
@@ -342,7 +355,8 @@ interface WalkedParts {
  * lines have the same key, both are written; otherwise the new line is written to the new part if the
  * old line turns up unchanged a little further on in the new file (the new line was added, or moved
  * here), else the old line to the old part (its row went, changed or moved on). The walk needs nothing
- * from pass 1, so the two run at once; checkWrittenKeys then holds its lines against the old rows.
+ * from pass 1, so the two run at once; checkKeys (key-check.ts) then holds its lines against the old
+ * rows.
  */
 function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter: number, keyColumns: number[], options: AlignedScanOptions, window: number): WalkedParts {
   const olds = new LineWindow(oldFile, window * 4);
@@ -426,23 +440,24 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
 }
 
 /**
- * Every written old line must be the old row its key names (a line whose key hashes lead elsewhere
- * means a repeated key or two keys sharing hashes), and every written new line whose key an old row
- * holds needs that old row written too: otherwise the old row stood in an identical run, so NEW holds
- * its key twice. The engine then diffs the whole files and names the rows.
+ * checkKeys (key-check.ts) on a worker thread when the old file was counted on workers: indexing ten
+ * million keys takes over a second, which the engine spends diffing the parts meanwhile.
  */
-function checkWrittenKeys(parts: WalkedParts, old: OldFile): void {
-  const written = new Uint8Array(old.rows);
-  for (let i = 0; i < parts.oldKeys.length; i += 3) {
-    const row = old.keys.find(parts.oldKeys[i], parts.oldKeys[i + 1]);
-    if (row < 0 || old.offsets[row] !== parts.oldKeys[i + 2]) unsuitable('old line not found by its key');
-    written[row] = 1;
-  }
-  for (let i = 0; i < parts.newKeys.length; i += 2) {
-    const row = old.keys.find(parts.newKeys[i], parts.newKeys[i + 1]);
-    if (row >= 0 && written[row] === 0) unsuitable('a key of the new file is repeated');
-  }
+function checkKeysAside(check: KeyCheck, onWorker: boolean): Promise<void> {
+  if (!onWorker || !existsSync(fileURLToPath(KEY_WORKER))) return new Promise((resolve) => resolve(checkKeys(check)));
+  const buffers = [check.oldKeys.buffer, check.newKeys.buffer, ...check.stretches.flatMap((s) => [s.first.buffer, s.second.buffer, s.offsets.buffer])];
+  const worker = new Worker(KEY_WORKER, { workerData: check, transferList: buffers as ArrayBuffer[] });
+  return new Promise<void>((resolve, reject) => {
+    worker.once('message', (reply: KeyCheckReply) => {
+      if ('ok' in reply) resolve();
+      else if ('unsuitable' in reply) reject(new Unsuitable(reply.unsuitable));
+      else reject(new Error(reply.failed));
+    });
+    worker.once('error', reject);
+  }).finally(() => void worker.terminate());
 }
+
+const KEY_WORKER = new URL('./key-check-worker.js', import.meta.url);
 
 /**
  * How many bytes from a[ai] and b[bi] are equal (at most `max`): galloping compares, so a long equal

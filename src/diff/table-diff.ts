@@ -36,6 +36,11 @@ export interface DiffOptions {
    * callers that go on in SQL (the review) rather than in JavaScript.
    */
   cellTable?: string;
+  /**
+   * List the keys of added and removed rows (default true). False leaves addedKeys and removedKeys
+   * empty, for a caller that shows only the counts: two sorted reads of the work table saved.
+   */
+  rowKeys?: boolean;
 }
 
 /** A column with the type its values are compared as. */
@@ -115,7 +120,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
     };
     const keyOrder = key.map((_, i) => `"k${i}"`).join(', ');
     const keysWhere = async (flag: string) =>
-      (await session.all<{ key: string }>(`SELECT "key" FROM ${ident(work)} WHERE ${flag} ORDER BY ${keyOrder}`)).map((r) => r.key);
+      options.rowKeys === false ? [] : (await session.all<{ key: string }>(`SELECT "key" FROM ${ident(work)} WHERE ${flag} ORDER BY ${keyOrder}`)).map((r) => r.key);
     const cells = common.length && keepTexts ? await changedCells(session, work, common.map((c) => c.new), keyOrder, options) : [];
     return {
       table: options.table ?? newTable,

@@ -60,6 +60,8 @@ export class Session {
     private readonly instance: DuckDBInstance,
     private readonly connection: DuckDBConnection,
     private readonly timeoutMs: number,
+    /** False for a second connection (`connectAgain`): closing it leaves the instance open. */
+    private readonly ownsInstance = true,
   ) {}
 
   static async open(options: SessionOptions = {}): Promise<Session> {
@@ -159,10 +161,18 @@ export class Session {
     await this.run(`SET lock_configuration = true`);
   }
 
+  /**
+   * Another connection to the same database, so that two statements can run at once (each reading
+   * one file, say). Tables either creates are seen by both. Close it before this session.
+   */
+  async connectAgain(): Promise<Session> {
+    return new Session(this.instance, await this.instance.connect(), this.timeoutMs, false);
+  }
+
   close(): void {
     if (this.stuck) return;
     this.connection.closeSync();
-    this.instance.closeSync();
+    if (this.ownsInstance) this.instance.closeSync();
   }
 }
 

@@ -292,6 +292,10 @@ describe('keyed diff of two deliveries in much the same order', () => {
     expect(diff.cells).toEqual([{ key: '["south","4"]', column: 'weight', old: '64', new: '99' }]);
     expect(diff.addedKeys).toEqual(['["east","7"]']);
     expect(diff.removedKeys).toEqual(['["north","7"]']);
+    // Asked for counts only, the same diff lists no keys.
+    const counts = (await diffFiles(oldFile, newFile, { key: ['site', 'id'], cellLimit: 0, rowKeys: false })) as TableDiff;
+    expect(counts.summary).toEqual(diff.summary);
+    expect([counts.addedKeys, counts.removedKeys, counts.cells]).toEqual([[], [], []]);
   });
 
   it('finds a key of the old file repeated in the other half of it, which is counted apart', async () => {

@@ -207,8 +207,23 @@ describe('diff --files and scratch space', () => {
       });
       expect(table.retyped).toEqual([{ column: 'c', from: 'string', to: 'integer' }]);
       expect(table.cells.find((cell: { key: string }) => cell.key === 'R0150000')).toEqual({ key: 'R0150000', column: 'c', old: 'n/a', new: '7' });
+
+      // Row 10 (unchanged, so in a run of identical lines) again at the end of NEW, and row 20 again
+      // at the end of OLD: only the scan's key check sees these repeats (on its own thread for files
+      // this long), and the engine then names each key in the file the user gave.
+      writeFiles(dir, { 'new-repeat.csv': `${newLines.join('\n')}\n${line(10, 10, '0')}\n`, 'old-repeat.csv': `${oldLines.join('\n')}\n${line(20, 20, '0')}\n` });
+      for (const [oldFile, newFile, key, file] of [
+        ['old.csv', 'new-repeat.csv', 'R0000010', 'new-repeat.csv'],
+        ['old-repeat.csv', 'new.csv', 'R0000020', 'old-repeat.csv'],
+      ]) {
+        const repeated = await errata(dir, ['diff', '--files', oldFile, newFile, '--key', 'id', '--format', 'json', '--summary']);
+        expect(repeated.code).not.toBe(0);
+        expect(repeated.stdout).toBe('');
+        expect(repeated.stderr).toContain(`${key} (2 rows`);
+        expect(repeated.stderr).toContain(file);
+      }
     } finally {
       removeDir(dir);
     }
-  }, 60_000);
+  }, 120_000);
 });

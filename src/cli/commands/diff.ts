@@ -64,6 +64,8 @@ export function registerDiff(program: Command, setExit: (code: number) => void):
           key,
           tolerance,
           cellLimit: limit,
+          // The documented summary object holds counts only.
+          rowKeys: !(options.summary && options.format === 'json'),
           workDir: await projectWorkDir(),
           onProgress: (event) => output.progress(fileDiffProgressText(event)),
         });
