@@ -183,15 +183,14 @@ function finish(h: number): number {
 }
 
 /**
- * A line's key: its text (for equality) and the hashes countStretch gives it, or null if it has none
- * or if a key field is quoted with a quote inside (no old key is: countStretch refuses them).
+ * A line's key as the two hashes countStretch gives it, or null if it has none or if a key field is
+ * quoted with a quote inside (no old key is: countStretch refuses them).
  */
-export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: number, keyColumns: readonly number[]): { text: string; h1: number; h2: number } | null {
+export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: number, keyColumns: readonly number[]): { h1: number; h2: number } | null {
   if (stop > start && buf[stop - 1] === CARRIAGE_RETURN) stop -= 1;
   const last = Math.max(...keyColumns);
   let h1 = HASH_SEED_1;
   let h2 = HASH_SEED_2;
-  let text = '';
   for (let column = 0, fieldStart = start; column <= last; column += 1) {
     if (fieldStart > stop) return null;
     let valueStart = fieldStart;
@@ -215,7 +214,6 @@ export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: n
     }
     h1 = Math.imul(h1 ^ KEY_PART, 0x01000193);
     h2 = Math.imul(h2 ^ KEY_PART, 0x5bd1e995) ^ (h2 >>> 15);
-    text += `${buf.toString('latin1', valueStart, valueEnd)}\u0000`;
   }
-  return { text, h1: finish(h1), h2 };
+  return { h1: finish(h1), h2 };
 }
