@@ -162,7 +162,9 @@ async function alignedParts(
   } catch (error) {
     // A file that cannot be read, or parts that cannot be written (a full disk): the whole-file diff
     // meets the same trouble and reports it as it always has. Memory that cannot be had is the
-    // whole-file diff's to do without: it spills to disk.
+    // whole-file diff's to do without: it spills to disk. What the engine says of the parts' diff
+    // (which runs within the scan) is the answer, as it would be after the scan.
+    if (error instanceof ErrataError) throw error;
     if (typeof (error as NodeJS.ErrnoException).code === 'string') return { kind: 'unsuitable', reason: (error as NodeJS.ErrnoException).code! };
     if (error instanceof RangeError) return { kind: 'unsuitable', reason: error.message };
     throw error;
