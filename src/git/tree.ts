@@ -3,7 +3,7 @@ import { createReadStream, existsSync, readdirSync, readFileSync, realpathSync, 
 import { ErrataError } from '../errors.js';
 import { writableDir } from '../scratch.js';
 import path from 'node:path';
-import { blobIdAt, listBlobsAt, readBlobAt, resolveRevision } from './repo.js';
+import { blobIdAt, listBlobsAt, readBlobAt, readBlobById, resolveRevision } from './repo.js';
 import { writeFileAtomically } from '../write-file.js';
 
 /**
@@ -121,10 +121,9 @@ export class RevisionTree implements ProjectTree {
     const name = `${oid}${path.extname(filepath)}`;
     let target = path.join(this.blobDir, name);
     if (!existsSync(target)) {
-      const blob = await readBlobAt(this.root, this.commit, filepath);
-      if (!blob) throw new Error(`${filepath} does not exist at ${this.label}`);
+      const content = await readBlobById(this.root, oid);
       target = path.join(writableDir(this.blobDir), name);
-      if (!existsSync(target)) writeFileAtomically(target, blob.content, { hint: 'Check that .errata/tmp is writable and the disk not full.' });
+      if (!existsSync(target)) writeFileAtomically(target, content, { hint: 'Check that .errata/tmp is writable and the disk not full.' });
     }
     return target;
   }

@@ -1,5 +1,7 @@
 import { execFileSync } from 'node:child_process';
+import { chmodSync, cpSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
+import { deflateSync } from 'node:zlib';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { resolveRevision } from '../../src/git/repo.js';
 import { RevisionTree, WorkingTree, gitBlobIdOf } from '../../src/git/tree.js';
@@ -52,5 +54,31 @@ describe('reading the project at a revision', () => {
     expect(await head.blobId('raw/t/a.csv')).toBe(gitHash);
     const emptyBlob = execFileSync('git', ['hash-object', '--stdin'], { input: '', encoding: 'utf8' }).trim();
     expect(gitBlobIdOf(new Uint8Array())).toBe(emptyBlob);
+  });
+
+  it('unpacks a delivery at a commit byte for byte as git does, loose or packed, and refuses a damaged object', async () => {
+    // git cat-file is the independent reference for a blob's content.
+    const gitContent = execFileSync('git', ['cat-file', 'blob', 'HEAD:raw/t/a.csv'], { cwd: root });
+    const packed = path.join(tempDir(), 'packed.git');
+    execFileSync('git', ['clone', '-q', '--bare', root, packed]);
+    execFileSync('git', ['gc', '-q', '--prune=now'], { cwd: packed });
+    // Every object is in the pack now: no loose-object folders are left.
+    expect(readdirSync(path.join(packed, 'objects')).filter((name) => /^[0-9a-f]{2}$/.test(name))).toEqual([]);
+    for (const dir of [root, packed]) {
+      const tree = await RevisionTree.at(dir, 'HEAD', path.join(tempDir(), 'blobs'));
+      expect(readFileSync(await tree.localPath('raw/t/a.csv'))).toEqual(gitContent);
+    }
+    // The loose object of a.csv's blob swapped for another well-formed blob: its content no longer
+    // hashes to its id.
+    const damagedRoot = tempDir();
+    cpSync(root, damagedRoot, { recursive: true });
+    const oid = execFileSync('git', ['rev-parse', 'HEAD:raw/t/a.csv'], { cwd: root, encoding: 'utf8' }).trim();
+    const objectFile = path.join(damagedRoot, '.git', 'objects', oid.slice(0, 2), oid.slice(2));
+    chmodSync(objectFile, 0o644);
+    writeFileSync(objectFile, deflateSync(Buffer.from('blob 6\0id\n1\n3\n')));
+    const damaged = await RevisionTree.at(damagedRoot, 'HEAD', path.join(tempDir(), 'blobs'));
+    await expect(damaged.localPath('raw/t/a.csv')).rejects.toMatchObject({ code: 'GIT', message: expect.stringContaining('does not hash to its id') });
+    removeDir(damagedRoot);
+    removeDir(path.dirname(packed));
   });
 });
