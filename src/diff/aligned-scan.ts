@@ -141,9 +141,9 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
 const COUNTS = 5;
 
 /**
- * The scan holds a few numbers per old row in memory (its offset, key hashes and index slot, about 60
- * bytes all told): a 10,000,000-row diff peaked at 1.1 GB with DuckDB's share. Up to this much, about
- * 16,000,000 rows, the whole diff stays near the 2 GB the whole-file diff is held to.
+ * The scan holds a few numbers per old row in memory (its key hashes, and their place in the key
+ * index, about 50 bytes all told): a 10,000,000-row diff peaked at 1.1 GB with DuckDB's share. Up to
+ * this much, about 16,000,000 rows, the whole diff stays near the 2 GB the whole-file diff is held to.
  */
 const SCAN_MEMORY = 2 ** 30;
 const MEMORY_PER_ROW = 64;
@@ -344,7 +344,7 @@ class LineWriter {
 interface WalkedParts {
   oldLines: number;
   newLines: number;
-  /** Per written old line: its key's hashes and its file offset. */
+  /** Per written old line: its key's hashes. */
   oldKeys: number[];
   /** Per written new line with a key: its key's hashes. */
   newKeys: number[];
@@ -372,7 +372,7 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
     if (!news.header()?.equals(header)) unsuitable('headers differ');
     const writeOld = (stop: number) => {
       const key = keyHashes(olds.buf, olds.pos, stop, delimiter, keyColumns) ?? unsuitable('an old line without its key');
-      oldKeys.push(key.h1, key.h2, olds.offset);
+      oldKeys.push(key.h1, key.h2);
       oldPart.write(olds.buf, olds.pos, stop + 1);
       olds.pos = stop + 1;
     };
@@ -447,7 +447,7 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
  */
 function checkKeysAside(check: KeyCheck, onWorker: boolean): Promise<void> {
   if (!onWorker || !existsSync(fileURLToPath(KEY_WORKER))) return new Promise((resolve) => resolve(checkKeys(check)));
-  const buffers = [check.oldKeys.buffer, check.newKeys.buffer, ...check.stretches.flatMap((s) => [s.first.buffer, s.second.buffer, s.offsets.buffer])];
+  const buffers = [check.oldKeys.buffer, check.newKeys.buffer, ...check.stretches.flatMap((s) => [s.first.buffer, s.second.buffer])];
   const worker = new Worker(KEY_WORKER, { workerData: check, transferList: buffers as ArrayBuffer[] });
   return new Promise<void>((resolve, reject) => {
     worker.once('message', (reply: KeyCheckReply) => {

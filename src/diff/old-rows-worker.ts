@@ -6,7 +6,7 @@ export type StretchReply = { share: number } | { rows: ReturnType<typeof countSt
 
 try {
   const rows = countStretch(workerData as RowStretch, (share) => parentPort!.postMessage({ share } satisfies StretchReply));
-  parentPort!.postMessage({ rows } satisfies StretchReply, [rows.combinations.buffer, rows.offsets.buffer, rows.first.buffer, rows.second.buffer]);
+  parentPort!.postMessage({ rows } satisfies StretchReply, [rows.combinations.buffer, rows.first.buffer, rows.second.buffer]);
 } catch (error) {
   const reply: StretchReply = error instanceof Unsuitable ? { unsuitable: error.message } : { failed: (error as Error).stack ?? String(error) };
   parentPort!.postMessage(reply);

@@ -4,7 +4,7 @@ import { LineWindow, NEWLINE } from './line-window.js';
 
 /**
  * The aligned scan's first pass over the old file (see aligned-scan.ts), one stretch of whole lines
- * at a time, so two stretches can be counted on two threads: each row's offset and key hashes, and
+ * at a time, so two stretches can be counted on two threads: each row's key hashes, and
  * each column's values by the combination of types they fit. Kept free of the engine, so a worker
  * thread loads only this.
  */
@@ -25,8 +25,7 @@ export interface StretchRows {
   rows: number;
   /** Per column, FIT_COMBINATIONS counts: the values whose textFits is each combination of flags. */
   combinations: Float64Array<ArrayBuffer>;
-  /** Per row: its line's file offset, and its key's two hashes. */
-  offsets: Float64Array<ArrayBuffer>;
+  /** Per row: its key's two hashes. */
   first: Int32Array<ArrayBuffer>;
   second: Int32Array<ArrayBuffer>;
 }
@@ -55,7 +54,6 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
   const isKey = new Uint8Array(width);
   for (const c of stretch.keyColumns) isKey[c] = 1;
   let capacity = Math.max(1 << 12, Math.ceil((stretch.end - stretch.start) / Math.max(1, averageLine(window))));
-  let offsets = new Float64Array(capacity);
   let first = new Int32Array(capacity);
   let second = new Int32Array(capacity);
   let rows = 0;
@@ -68,7 +66,6 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
       if (crlf ? countOf(block, CARRIAGE_RETURN) !== countOf(block, NEWLINE) : block.includes(CARRIAGE_RETURN)) unsuitable('carriage returns other than line ends');
       let column = 0;
       let fieldStart = pos;
-      let lineStart = pos;
       let lineStop = -1;
       /** The closing quote of the current field, or -1 when it is not quoted. */
       let closed = -1;
@@ -120,16 +117,13 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
           if (column !== width) unsuitable('ragged row');
           if (rows === capacity) {
             capacity *= 2;
-            offsets = grown(offsets, new Float64Array(capacity));
             first = grown(first, new Int32Array(capacity));
             second = grown(second, new Int32Array(capacity));
           }
-          offsets[rows] = window.base + lineStart;
           first[rows] = finish(h1);
           second[rows] = h2;
           rows += 1;
           column = 0;
-          lineStart = i + 1;
           h1 = HASH_SEED_1;
           h2 = HASH_SEED_2;
         }
@@ -137,7 +131,7 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
       window.pos = end;
       onBlock?.((window.offset - stretch.start) / Math.max(1, stretch.end - stretch.start));
     }
-    return { rows, combinations, offsets, first, second };
+    return { rows, combinations, first, second };
   } finally {
     window.close();
   }
@@ -166,8 +160,8 @@ export function averageLine(window: LineWindow): number {
   return lines ? (window.end - window.pos) / lines : window.end - window.pos;
 }
 
-function grown<T extends Float64Array<ArrayBuffer> | Int32Array<ArrayBuffer>>(array: T, bigger: T): T {
-  bigger.set(array as never);
+function grown(array: Int32Array<ArrayBuffer>, bigger: Int32Array<ArrayBuffer>): Int32Array<ArrayBuffer> {
+  bigger.set(array);
   return bigger;
 }
 
