@@ -1,13 +1,11 @@
 import { closeSync, existsSync, openSync, readSync, statSync, writeSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { Worker } from 'node:worker_threads';
 import type { TypeFits } from '../engine/column-types.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
 import { LineWindow, NEWLINE } from './line-window.js';
 import { checkKeys, type KeyCheck } from './key-check.js';
-import type { KeyCheckReply } from './key-check-worker.js';
 import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, averageLine, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
-import type { StretchReply } from './old-rows-worker.js';
+import { startWorker } from './worker-thread.js';
 
 /**
  * A keyed diff of two delimited files mostly reads rows that did not change: a new delivery repeats
@@ -122,10 +120,7 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       newPartLines: parts.newLines,
       oldFits,
     };
-    const keysChecked = checkKeysAside(
-      { stretches: old.stretches, oldKeys: Float64Array.from(parts.oldKeys), newKeys: Float64Array.from(parts.newKeys) },
-      old.onWorkers,
-    );
+    const keysChecked = checkKeysAside({ stretches: old.stretches, oldKeys: Float64Array.from(parts.oldKeys), newKeys: Float64Array.from(parts.newKeys) });
     const alongside = options.whileKeysChecked?.(aligned);
     const [keys, work] = await Promise.allSettled([keysChecked, alongside]);
     if (keys.status === 'rejected') throw keys.reason;
@@ -178,8 +173,6 @@ interface OldFile {
   fits: Float64Array;
   /** The rows as counted, stretch by stretch, for the key check. */
   stretches: StretchRows[];
-  /** Whether they were counted on worker threads (then the keys are checked on one too). */
-  onWorkers: boolean;
 }
 
 /**
@@ -225,7 +218,7 @@ function countOldFile(
     shares[i] = share;
     onProgress?.('count', shares.reduce((sum, s) => sum + s, 0) / shares.length);
   };
-  const workers = split < size && existsSync(fileURLToPath(WORKER)) ? bounds.map(([from, to], i) => countOnWorker(stretch(from, to), reportShare(i))) : null;
+  const workers = split < size && existsSync(fileURLToPath(WORKER)) ? bounds.map(([from, to], i) => startWorker<StretchRows>(WORKER, stretch(from, to), [], reportShare(i))) : null;
   return {
     stop() {
       for (const w of workers ?? []) w.stop();
@@ -234,7 +227,7 @@ function countOldFile(
       let stretches: StretchRows[];
       try {
         stretches = workers
-          ? await Promise.all(workers.map((w) => w.rows))
+          ? await Promise.all(workers.map((w) => w.result))
           : bounds.map(([from, to], i) => countStretch(stretch(from, to), reportShare(i)));
       } finally {
         for (const w of workers ?? []) w.stop();
@@ -242,7 +235,7 @@ function countOldFile(
       const rows = stretches.reduce((sum, part) => sum + part.rows, 0);
       const combinations = new Float64Array(width * FIT_COMBINATIONS);
       for (const part of stretches) for (let i = 0; i < combinations.length; i += 1) combinations[i] += part.combinations[i];
-      return { rows, fits: fitsOf(combinations, width), stretches, onWorkers: workers !== null };
+      return { rows, fits: fitsOf(combinations, width), stretches };
     },
   };
 }
@@ -266,22 +259,6 @@ function lineAfter(file: string, from: number, end: number): number {
   } finally {
     closeSync(fd);
   }
-}
-
-/** Count a stretch on a worker thread; `stop` ends the thread if the answer is no longer wanted. */
-function countOnWorker(stretch: RowStretch, onShare: (share: number) => void): { rows: Promise<StretchRows>; stop(): void } {
-  const worker = new Worker(WORKER, { workerData: stretch });
-  const rows = new Promise<StretchRows>((resolve, reject) => {
-    worker.on('message', (reply: StretchReply) => {
-      if ('share' in reply) onShare(reply.share);
-      else if ('rows' in reply) resolve(reply.rows);
-      else if ('unsuitable' in reply) reject(new Unsuitable(reply.unsuitable));
-      else reject(new Error(reply.failed));
-    });
-    worker.once('error', reject);
-  });
-  rows.catch(() => undefined); // awaited unless the first stretch failed first
-  return { rows, stop: () => void worker.terminate() };
 }
 
 function fitsOf(combinations: Float64Array, width: number): Float64Array {
@@ -442,21 +419,15 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
 }
 
 /**
- * checkKeys (key-check.ts) on a worker thread when the old file was counted on workers: indexing ten
- * million keys takes over a second, which the engine spends diffing the parts meanwhile.
+ * checkKeys (key-check.ts) on a worker thread when the old file was long enough to count in two
+ * stretches: indexing ten million keys takes over a second, which the engine spends diffing the parts
+ * meanwhile. Where the compiled worker does not exist (the test runner), on this thread.
  */
-function checkKeysAside(check: KeyCheck, onWorker: boolean): Promise<void> {
-  if (!onWorker || !existsSync(fileURLToPath(KEY_WORKER))) return new Promise((resolve) => resolve(checkKeys(check)));
+function checkKeysAside(check: KeyCheck): Promise<void> {
+  if (check.stretches.length < 2 || !existsSync(fileURLToPath(KEY_WORKER))) return new Promise((resolve) => resolve(checkKeys(check)));
   const buffers = [check.oldKeys.buffer, check.newKeys.buffer, ...check.stretches.flatMap((s) => [s.first.buffer, s.second.buffer])];
-  const worker = new Worker(KEY_WORKER, { workerData: check, transferList: buffers as ArrayBuffer[] });
-  return new Promise<void>((resolve, reject) => {
-    worker.once('message', (reply: KeyCheckReply) => {
-      if ('ok' in reply) resolve();
-      else if ('unsuitable' in reply) reject(new Unsuitable(reply.unsuitable));
-      else reject(new Error(reply.failed));
-    });
-    worker.once('error', reject);
-  }).finally(() => void worker.terminate());
+  const worker = startWorker<void>(KEY_WORKER, check, buffers as ArrayBuffer[]);
+  return worker.result.finally(worker.stop);
 }
 
 const KEY_WORKER = new URL('./key-check-worker.js', import.meta.url);

@@ -74,7 +74,9 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
   const anyStored = commonNames.length ? commonNames.map((_, i) => `"s${i}"`).join(' OR ') : 'false';
   const rowKey = `CASE WHEN n.${ident(key[0])} IS NULL THEN ${keyExpression(key, 'o')} ELSE ${keyExpression(key, 'n')} END`;
   const order = key.map((k) => `COALESCE(n.${ident(k)}, o.${ident(k)})`);
-  await session.run(`CREATE TEMP ${options.parts ? 'VIEW' : 'TABLE'} ${ident(rowsWork)} AS
+  // Over parts the join is read once, so it need not be kept.
+  const rowsKind = options.parts ? 'VIEW' : 'TABLE';
+  await session.run(`CREATE TEMP ${rowsKind} ${ident(rowsWork)} AS
     SELECT * FROM (
       SELECT ${rowKey} AS "key",
              ${order.map((o, i) => `${o} AS "k${i}"`).join(', ')},
@@ -100,7 +102,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
                ${[...flags, ...(keepTexts ? common.flatMap((c, i) => [`${textSql(`"ov${i}"`, c.old.type)} AS "o${i}"`, `${textSql(`"nv${i}"`, c.new.type)} AS "n${i}"`]) : [])].join(',\n               ')}
         FROM ${ident(rowsWork)}
       ) WHERE "added" OR "removed" OR ${anyFlag}`);
-    await session.run(`DROP ${options.parts ? 'VIEW' : 'TABLE'} ${ident(rowsWork)}`);
+    await session.run(`DROP ${rowsKind} ${ident(rowsWork)}`);
     const counts = await session.one<Record<string, bigint>>(`
       SELECT count(*) FILTER (WHERE "added") AS added,
              count(*) FILTER (WHERE "removed") AS removed,
@@ -134,7 +136,7 @@ export async function diffTables(session: Session, oldTable: string, newTable: s
       complete: cells.length === summary.cells.changed,
     };
   } finally {
-    await session.run(`DROP ${options.parts ? 'VIEW' : 'TABLE'} IF EXISTS ${ident(rowsWork)}`);
+    await session.run(`DROP ${rowsKind} IF EXISTS ${ident(rowsWork)}`);
     await session.run(`DROP TABLE IF EXISTS ${ident(work)}`);
   }
 }
