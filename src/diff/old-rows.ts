@@ -1,5 +1,5 @@
 import { isUtf8 } from 'node:buffer';
-import { textFits } from '../engine/text-fits.js';
+import { CsvKernel } from '../engine/csv-kernel.js';
 import { LineWindow, NEWLINE } from './line-window.js';
 
 /**
@@ -23,7 +23,7 @@ export interface RowStretch {
 
 export interface StretchRows {
   rows: number;
-  /** Per column, FIT_COMBINATIONS counts: the values whose textFits is each combination of flags. */
+  /** Per column, FIT_COMBINATIONS counts: the values whose fits (text-fits.ts) are each combination of flags. */
   combinations: Float64Array<ArrayBuffer>;
   /** Per row: its key's two hashes. */
   first: Int32Array<ArrayBuffer>;
@@ -45,14 +45,22 @@ export function unsuitable(reason: string): never {
  * Count a stretch of the old file (whole lines, no header). Every row must be as wide as the header
  * and hold its key, and end as the header does (LF, or CR LF); fields may be quoted, but a quoted field
  * may not hold a line break (so that a line is a row). The stretch must be UTF-8 without NUL bytes.
+ * The lines themselves are read by `count` in csv-kernel.wat, a block at a time.
  */
 export function countStretch(stretch: RowStretch, onBlock?: (share: number) => void): StretchRows {
   const { delimiter, width, crlf } = stretch;
   const window = new LineWindow(stretch.file, stretch.windowBytes * 2, stretch.start, stretch.end);
-  // One count per column and combination of fits: one addition per value, summed up at the end.
   const combinations = new Float64Array(width * FIT_COMBINATIONS);
-  const isKey = new Uint8Array(width);
-  for (const c of stretch.keyColumns) isKey[c] = 1;
+  // The kernel's memory: its counts per column and combination, the key columns, the bytes that end
+  // a field, then a block of lines, then their rows' key hashes.
+  const kernel = new CsvKernel();
+  const countsAt = 0;
+  const keysAt = width * FIT_COMBINATIONS * 4;
+  const specialAt = keysAt + width;
+  const blockAt = aligned(specialAt + 256);
+  const layout = kernel.reserve(blockAt);
+  for (const c of stretch.keyColumns) layout[keysAt + c] = 1;
+  for (const byte of [delimiter, NEWLINE, QUOTE]) layout[specialAt + byte] = 1;
   let capacity = Math.max(1 << 12, Math.ceil((stretch.end - stretch.start) / Math.max(1, averageLine(window))));
   let first = new Int32Array(capacity);
   let second = new Int32Array(capacity);
@@ -64,70 +72,25 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
       if (block.includes(0)) unsuitable('NUL byte');
       if (!isUtf8(block)) unsuitable('not UTF-8');
       if (crlf ? countOf(block, CARRIAGE_RETURN) !== countOf(block, NEWLINE) : block.includes(CARRIAGE_RETURN)) unsuitable('carriage returns other than line ends');
-      let column = 0;
-      let fieldStart = pos;
-      let lineStop = -1;
-      /** The closing quote of the current field, or -1 when it is not quoted. */
-      let closed = -1;
-      let h1 = HASH_SEED_1;
-      let h2 = HASH_SEED_2;
-      for (let i = pos; i < end; i += 1) {
-        const byte = buf[i];
-        if (byte !== delimiter && byte !== NEWLINE && byte !== QUOTE) continue;
-        if (byte === QUOTE) {
-          if (i !== fieldStart) unsuitable('quote inside an unquoted field');
-          if (lineStop < i) lineStop = buf.indexOf(NEWLINE, i);
-          closed = closingQuote(buf, i, lineStop);
-          i = closed;
-          continue;
-        }
-        let valueStart = fieldStart;
-        let valueEnd = i;
-        if (byte === NEWLINE && crlf) {
-          if (buf[i - 1] !== CARRIAGE_RETURN) unsuitable('a line without CR LF');
-          valueEnd -= 1;
-        }
-        if (closed >= 0) {
-          if (valueEnd !== closed + 1) unsuitable('text after a closing quote');
-          valueStart += 1;
-          valueEnd -= 1;
-        }
-        if (column >= width) unsuitable('ragged row');
-        if (isKey[column] === 1) {
-          if (valueEnd === valueStart || buf[valueStart] <= 32 || buf[valueEnd - 1] <= 32) unsuitable('missing or padded key');
-          const quote = closed >= 0 ? buf.indexOf(QUOTE, valueStart) : -1;
-          if (quote >= 0 && quote < valueEnd) unsuitable('quote in a key');
-          // The mixing of keyHashes, written out here where it runs for every row.
-          for (let j = valueStart; j < valueEnd; j += 1) {
-            h1 = Math.imul(h1 ^ buf[j], 0x01000193);
-            h2 = Math.imul(h2 ^ buf[j], 0x5bd1e995) ^ (h2 >>> 15);
-          }
-          h1 = Math.imul(h1 ^ KEY_PART, 0x01000193);
-          h2 = Math.imul(h2 ^ KEY_PART, 0x5bd1e995) ^ (h2 >>> 15);
-        } else if (valueEnd > valueStart) {
-          // A value holding a (doubled) quote fits no type, and textFits says so.
-          combinations[column * FIT_COMBINATIONS + textFits(buf, valueStart, valueEnd)] += 1;
-        } else if (closed >= 0) {
-          combinations[column * FIT_COMBINATIONS] += 1; // "" is the empty string, not missing
-        }
-        closed = -1;
-        column += 1;
-        fieldStart = i + 1;
-        if (byte === NEWLINE) {
-          if (column !== width) unsuitable('ragged row');
-          if (rows === capacity) {
-            capacity *= 2;
-            first = grown(first, new Int32Array(capacity));
-            second = grown(second, new Int32Array(capacity));
-          }
-          first[rows] = finish(h1);
-          second[rows] = h2;
-          rows += 1;
-          column = 0;
-          h1 = HASH_SEED_1;
-          h2 = HASH_SEED_2;
-        }
+      // A row has at least `width` bytes: its delimiters and newline.
+      const most = Math.floor(block.length / width) + 1;
+      const firstAt = aligned(blockAt + block.length);
+      const secondAt = firstAt + 4 * most;
+      kernel.reserve(secondAt + 4 * most).set(block, blockAt);
+      const counted = kernel.count(blockAt, blockAt + block.length, width, crlf ? 1 : 0, keysAt, specialAt, countsAt, firstAt, secondAt);
+      if (counted < 0) unsuitable(KERNEL_REASONS[-counted - 1]);
+      // Summed here block by block, so the kernel's 32-bit counts cannot overflow.
+      const counts = kernel.int32s(countsAt, combinations.length);
+      for (let i = 0; i < counts.length; i += 1) combinations[i] += counts[i];
+      counts.fill(0);
+      if (rows + counted > capacity) {
+        while (rows + counted > capacity) capacity *= 2;
+        first = grown(first, new Int32Array(capacity));
+        second = grown(second, new Int32Array(capacity));
       }
+      first.set(kernel.int32s(firstAt, counted), rows);
+      second.set(kernel.int32s(secondAt, counted), rows);
+      rows += counted;
       window.pos = end;
       onBlock?.((window.offset - stretch.start) / Math.max(1, stretch.end - stretch.start));
     }
@@ -137,14 +100,18 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
   }
 }
 
-/** The quote closing the field opened at `open`, before the line's end; a doubled quote is one quote. */
-function closingQuote(buf: Buffer, open: number, lineStop: number): number {
-  for (let at = open + 1; ; at += 2) {
-    at = buf.indexOf(QUOTE, at);
-    if (at < 0 || at > lineStop) unsuitable('line break inside quotes');
-    if (buf[at + 1] !== QUOTE) return at;
-  }
-}
+/** Why the kernel's `count` refused a block, by its code (-1, -2, ...). */
+const KERNEL_REASONS = [
+  'quote inside an unquoted field',
+  'line break inside quotes',
+  'a line without CR LF',
+  'text after a closing quote',
+  'ragged row',
+  'missing or padded key',
+  'quote in a key',
+];
+
+const aligned = (offset: number) => (offset + 15) & ~15;
 
 function countOf(bytes: Buffer, byte: number): number {
   let count = 0;
@@ -178,7 +145,8 @@ function finish(h: number): number {
 
 /**
  * A line's key as the two hashes countStretch gives it, or null if it has none or if a key field is
- * quoted with a quote inside (no old key is: countStretch refuses them).
+ * quoted with a quote inside (no old key is: countStretch refuses them). The kernel's `count` mixes the
+ * same way, and the aligned-scan tests fail if the two part.
  */
 export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: number, keyColumns: readonly number[]): { h1: number; h2: number } | null {
   if (stop > start && buf[stop - 1] === CARRIAGE_RETURN) stop -= 1;
