@@ -8,7 +8,6 @@ interface WebAssemblyApi {
 
 interface KernelExports {
   memory: { buffer: ArrayBuffer; grow(pages: number): number };
-  fits(start: number, end: number): number;
   count(pos: number, end: number, width: number, crlf: number, keys: number, special: number, counts: number, first: number, second: number): number;
 }
 
@@ -47,10 +46,6 @@ export class CsvKernel {
   /** `size` 32-bit integers of the memory from byte `at` (a multiple of 4). */
   int32s(at: number, size: number): Int32Array {
     return new Int32Array(this.exports.memory.buffer, at, size);
-  }
-
-  fits(start: number, end: number): number {
-    return this.exports.fits(start, end);
   }
 
   count(...args: Parameters<KernelExports['count']>): number {

@@ -1,7 +1,7 @@
-;; The two hot loops of reading a delimited file outside the engine, as WebAssembly: the type-fit
-;; rules of column-types.ts for raw UTF-8 bytes (`fits`), and the aligned scan's count of the old file
-;; (`count`, see countStretch in src/diff/old-rows.ts). The same loops in JavaScript took about twice
-;; as long a byte; ten million rows are a billion bytes.
+;; The hot loop of reading a delimited file outside the engine, as WebAssembly: the aligned scan's
+;; count of the old file (`count`, see countStretch in src/diff/old-rows.ts), with the type-fit rules
+;; of column-types.ts for raw UTF-8 bytes written into it (text-fits.ts asks it of single values).
+;; The same in JavaScript took about twice as long a byte; ten million rows are a billion bytes.
 ;;
 ;; Compiled by `npm run wasm` (scripts/wasm.js) into csv-kernel-wasm.ts; a test checks that file
 ;; against this one. csv-kernel.ts lays out the memory.
@@ -10,88 +10,6 @@
 ;; see text-fits.ts.
 (module
   (memory (export "memory") 1)
-
-  ;; The fits of the non-empty value [s, e): a sum of fit flags, or unsure.
-  (func $fits (export "fits") (param $s i32) (param $e i32) (result i32)
-    (local $i i32) (local $ch i32) (local $len i32)
-    (local.set $i (local.get $s))
-    (local.set $ch (i32.load8_u (local.get $i)))
-    (if (i32.eq (local.get $ch) (i32.const 45))
-      (then
-        (local.set $i (i32.add (local.get $i) (i32.const 1)))
-        (if (i32.eq (local.get $i) (local.get $e)) (then (return (i32.const 0))))
-        (local.set $ch (i32.load8_u (local.get $i)))))
-    (if (i32.le_u (i32.sub (local.get $ch) (i32.const 48)) (i32.const 9))
-      (then (return (call $numberOrDate (local.get $s) (local.get $i) (local.get $e)))))
-    (local.set $len (i32.sub (local.get $e) (local.get $s)))
-    (if (i32.and
-          (i32.or (i32.eq (local.get $len) (i32.const 4)) (i32.eq (local.get $len) (i32.const 5)))
-          (i32.or (i32.eq (i32.or (local.get $ch) (i32.const 32)) (i32.const 116))
-                  (i32.eq (i32.or (local.get $ch) (i32.const 32)) (i32.const 102))))
-      (then (return (call $boolean (local.get $s) (local.get $e)))))
-    (i32.const 0))
-
-  (func $digitsFrom (param $i i32) (param $e i32) (result i32)
-    (block $out
-      (loop $more
-        (br_if $out (i32.ge_u (local.get $i) (local.get $e)))
-        (br_if $out (i32.gt_u (i32.sub (i32.load8_u (local.get $i)) (i32.const 48)) (i32.const 9)))
-        (local.set $i (i32.add (local.get $i) (i32.const 1)))
-        (br $more)))
-    (local.get $i))
-
-  (func $numberOrDate (param $s i32) (param $ds i32) (param $e i32) (result i32)
-    (local $i i32) (local $digits i32) (local $b i32) (local $all i32) (local $f i32) (local $x i32) (local $value i32)
-    (local.set $i (call $digitsFrom (local.get $ds) (local.get $e)))
-    (local.set $digits (i32.sub (local.get $i) (local.get $ds)))
-    (if (i32.eq (local.get $i) (local.get $e))
-      (then
-        ;; "007" is a code, not a number.
-        (if (i32.and (i32.gt_u (local.get $digits) (i32.const 1)) (i32.eq (i32.load8_u (local.get $ds)) (i32.const 48)))
-          (then (return (i32.const 0))))
-        ;; Past 300 digits (or an exponent past 250, or 40 digits with one), DOUBLE's range is near.
-        (if (i32.gt_u (local.get $digits) (i32.const 300)) (then (return (i32.const 16))))
-        (return (select (i32.const 3) (i32.const 2) (i32.le_u (local.get $digits) (i32.const 18))))))
-    (local.set $b (i32.load8_u (local.get $i)))
-    (if (i32.eq (local.get $b) (i32.const 45))
-      (then
-        (return (select (call $date (local.get $s) (local.get $e)) (i32.const 0)
-          (i32.and (i32.eq (local.get $ds) (local.get $s)) (i32.eq (local.get $digits) (i32.const 4)))))))
-    (if (i32.and (i32.gt_u (local.get $digits) (i32.const 1)) (i32.eq (i32.load8_u (local.get $ds)) (i32.const 48)))
-      (then (return (i32.const 0))))
-    (local.set $all (local.get $digits))
-    (if (i32.eq (local.get $b) (i32.const 46))
-      (then
-        (local.set $f (i32.add (local.get $i) (i32.const 1)))
-        (local.set $i (call $digitsFrom (local.get $f) (local.get $e)))
-        (if (i32.eq (local.get $i) (local.get $f)) (then (return (i32.const 0))))
-        (local.set $all (i32.add (local.get $all) (i32.sub (local.get $i) (local.get $f))))))
-    (if (i32.lt_u (local.get $i) (local.get $e))
-      (then
-        (if (i32.eq (i32.or (i32.load8_u (local.get $i)) (i32.const 32)) (i32.const 101))
-          (then
-            (local.set $i (i32.add (local.get $i) (i32.const 1)))
-            (if (i32.lt_u (local.get $i) (local.get $e))
-              (then
-                (local.set $b (i32.load8_u (local.get $i)))
-                (if (i32.or (i32.eq (local.get $b) (i32.const 43)) (i32.eq (local.get $b) (i32.const 45)))
-                  (then (local.set $i (i32.add (local.get $i) (i32.const 1)))))))
-            (local.set $x (local.get $i))
-            (local.set $i (call $digitsFrom (local.get $x) (local.get $e)))
-            (if (i32.or (i32.eq (local.get $i) (local.get $x)) (i32.ne (local.get $i) (local.get $e)))
-              (then (return (i32.const 0))))
-            (block $read
-              (loop $digit
-                (br_if $read (i32.ge_u (local.get $x) (local.get $e)))
-                (br_if $read (i32.gt_u (local.get $value) (i32.const 250)))
-                (local.set $value (i32.add (i32.mul (local.get $value) (i32.const 10))
-                  (i32.sub (i32.load8_u (local.get $x)) (i32.const 48))))
-                (local.set $x (i32.add (local.get $x) (i32.const 1)))
-                (br $digit)))
-            (if (i32.or (i32.gt_u (local.get $value) (i32.const 250)) (i32.gt_u (local.get $all) (i32.const 40)))
-              (then (return (i32.const 16))))))))
-    (if (i32.ne (local.get $i) (local.get $e)) (then (return (i32.const 0))))
-    (select (i32.const 16) (i32.const 2) (i32.gt_u (local.get $all) (i32.const 300))))
 
   (func $date (param $s i32) (param $e i32) (result i32)
     (local $m1 i32) (local $m2 i32) (local $d1 i32) (local $d2 i32) (local $year i32) (local $month i32) (local $day i32) (local $days i32)
@@ -154,7 +72,7 @@
     (local.set $h (i32.mul (local.get $h) (i32.const 0x85ebca6b)))
     (i32.xor (local.get $h) (i32.shr_u (local.get $h) (i32.const 13))))
 
-  ;; Count the whole lines in [pos, end), which end in a newline: per row, its key's two hashes into
+  ;; Count the whole lines in [pos, end), at least one, each ending in a newline: per row, its key's two hashes into
   ;; $first and $second; per column, one more in $counts (32 i32s a column) at the value's fits. $keys
   ;; holds a byte per column (1: part of the key); $special, 256 bytes, is 1 at the delimiter, the
   ;; newline and the quote. Returns the rows, or why the lines are unsuitable, as a negative code:
@@ -165,6 +83,7 @@
     (param $keys i32) (param $special i32) (param $counts i32) (param $first i32) (param $second i32) (result i32)
     (local $i i32) (local $byte i32) (local $column i32) (local $fieldStart i32) (local $closed i32)
     (local $h1 i32) (local $h2 i32) (local $rows i32) (local $vs i32) (local $ve i32) (local $j i32) (local $c i32) (local $at i32)
+    (local $fit i32) (local $ds i32) (local $ch i32) (local $k i32) (local $digits i32) (local $lead i32) (local $b i32) (local $all i32) (local $f i32) (local $value i32)
     (local.set $fieldStart (local.get $pos))
     (local.set $closed (i32.const -1))
     (local.set $h1 (i32.const 0x811c9dc5))
@@ -172,12 +91,13 @@
     (local.set $i (local.get $pos))
     (block $done
       (loop $next
-        (br_if $done (i32.ge_u (local.get $i) (local.get $end)))
-        (local.set $byte (i32.load8_u (local.get $i)))
-        (if (i32.eqz (i32.load8_u (i32.add (local.get $special) (local.get $byte))))
-          (then
+        ;; On to the field's end. The lines end in a newline, so this stops by $end.
+        (block $ends
+          (loop $scan
+            (local.set $byte (i32.load8_u (local.get $i)))
+            (br_if $ends (i32.load8_u (i32.add (local.get $special) (local.get $byte))))
             (local.set $i (i32.add (local.get $i) (i32.const 1)))
-            (br $next)))
+            (br $scan)))
         (if (i32.eq (local.get $byte) (i32.const 34))
           (then
             (if (i32.ne (local.get $i) (local.get $fieldStart)) (then (return (i32.const -1))))
@@ -234,8 +154,98 @@
           (else
             (if (i32.gt_u (local.get $ve) (local.get $vs))
               (then
+                ;; The value's fits, a sum of fit flags or unsure; written out here, where it runs for
+                ;; every value, rather than called.
+                (local.set $fit
+                  (block $fitted (result i32)
+                    (local.set $ds (local.get $vs))
+                    (local.set $ch (i32.load8_u (local.get $ds)))
+                    (if (i32.eq (local.get $ch) (i32.const 45))
+                      (then
+                        (local.set $ds (i32.add (local.get $ds) (i32.const 1)))
+                        (if (i32.eq (local.get $ds) (local.get $ve)) (then (br $fitted (i32.const 0))))
+                        (local.set $ch (i32.load8_u (local.get $ds)))))
+                    (if (i32.gt_u (i32.sub (local.get $ch) (i32.const 48)) (i32.const 9))
+                      (then
+                        (local.set $k (i32.sub (local.get $ve) (local.get $vs)))
+                        (if (i32.and
+                              (i32.or (i32.eq (local.get $k) (i32.const 4)) (i32.eq (local.get $k) (i32.const 5)))
+                              (i32.or (i32.eq (i32.or (local.get $ch) (i32.const 32)) (i32.const 116))
+                                      (i32.eq (i32.or (local.get $ch) (i32.const 32)) (i32.const 102))))
+                          (then (br $fitted (call $boolean (local.get $vs) (local.get $ve)))))
+                        (br $fitted (i32.const 0))))
+                    ;; A number or a date: digits first.
+                    (local.set $k (local.get $ds))
+                    (block $whole_end
+              (loop $whole
+                (br_if $whole_end (i32.ge_u (local.get $k) (local.get $ve)))
+                (br_if $whole_end (i32.gt_u (i32.sub (i32.load8_u (local.get $k)) (i32.const 48)) (i32.const 9)))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $whole)))
+                    (local.set $digits (i32.sub (local.get $k) (local.get $ds)))
+                    ;; "007" is a code, not a number.
+                    (local.set $lead (i32.and (i32.gt_u (local.get $digits) (i32.const 1)) (i32.eq (local.get $ch) (i32.const 48))))
+                    (if (i32.eq (local.get $k) (local.get $ve))
+                      (then
+                        (if (local.get $lead) (then (br $fitted (i32.const 0))))
+                        ;; Past 300 digits (or an exponent past 250, or 40 digits with one), DOUBLE's range is near.
+                        (if (i32.gt_u (local.get $digits) (i32.const 300)) (then (br $fitted (i32.const 16))))
+                        (br $fitted (select (i32.const 3) (i32.const 2) (i32.le_u (local.get $digits) (i32.const 18))))))
+                    (local.set $b (i32.load8_u (local.get $k)))
+                    (if (i32.eq (local.get $b) (i32.const 45))
+                      (then
+                        (if (i32.and (i32.eq (local.get $ds) (local.get $vs)) (i32.eq (local.get $digits) (i32.const 4)))
+                          (then (br $fitted (call $date (local.get $vs) (local.get $ve)))))
+                        (br $fitted (i32.const 0))))
+                    (if (local.get $lead) (then (br $fitted (i32.const 0))))
+                    (local.set $all (local.get $digits))
+                    (if (i32.eq (local.get $b) (i32.const 46))
+                      (then
+                        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                        (local.set $f (local.get $k))
+                        (block $fraction_end
+              (loop $fraction
+                (br_if $fraction_end (i32.ge_u (local.get $k) (local.get $ve)))
+                (br_if $fraction_end (i32.gt_u (i32.sub (i32.load8_u (local.get $k)) (i32.const 48)) (i32.const 9)))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $fraction)))
+                        (if (i32.eq (local.get $k) (local.get $f)) (then (br $fitted (i32.const 0))))
+                        (local.set $all (i32.add (local.get $all) (i32.sub (local.get $k) (local.get $f))))))
+                    (if (i32.lt_u (local.get $k) (local.get $ve))
+                      (then
+                        (if (i32.eq (i32.or (i32.load8_u (local.get $k)) (i32.const 32)) (i32.const 101))
+                          (then
+                            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                            (if (i32.lt_u (local.get $k) (local.get $ve))
+                              (then
+                                (local.set $b (i32.load8_u (local.get $k)))
+                                (if (i32.or (i32.eq (local.get $b) (i32.const 43)) (i32.eq (local.get $b) (i32.const 45)))
+                                  (then (local.set $k (i32.add (local.get $k) (i32.const 1)))))))
+                            (local.set $f (local.get $k))
+                            (block $exponent_end
+              (loop $exponent
+                (br_if $exponent_end (i32.ge_u (local.get $k) (local.get $ve)))
+                (br_if $exponent_end (i32.gt_u (i32.sub (i32.load8_u (local.get $k)) (i32.const 48)) (i32.const 9)))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $exponent)))
+                            (if (i32.or (i32.eq (local.get $k) (local.get $f)) (i32.ne (local.get $k) (local.get $ve)))
+                              (then (br $fitted (i32.const 0))))
+                            ;; Leading zeros aside, a short exponent cannot take a double out of range.
+                            (local.set $value (i32.const 0))
+                            (block $read
+                              (loop $digit
+                                (br_if $read (i32.ge_u (local.get $f) (local.get $ve)))
+                                (br_if $read (i32.gt_u (local.get $value) (i32.const 250)))
+                                (local.set $value (i32.add (i32.mul (local.get $value) (i32.const 10))
+                                  (i32.sub (i32.load8_u (local.get $f)) (i32.const 48))))
+                                (local.set $f (i32.add (local.get $f) (i32.const 1)))
+                                (br $digit)))
+                            (if (i32.or (i32.gt_u (local.get $value) (i32.const 250)) (i32.gt_u (local.get $all) (i32.const 40)))
+                              (then (br $fitted (i32.const 16))))))))
+                    (if (i32.ne (local.get $k) (local.get $ve)) (then (br $fitted (i32.const 0))))
+                    (select (i32.const 16) (i32.const 2) (i32.gt_u (local.get $all) (i32.const 300)))))
                 (local.set $at (i32.add (local.get $counts)
-                  (i32.shl (i32.add (i32.shl (local.get $column) (i32.const 5)) (call $fits (local.get $vs) (local.get $ve))) (i32.const 2))))
+                  (i32.shl (i32.add (i32.shl (local.get $column) (i32.const 5)) (local.get $fit)) (i32.const 2))))
                 (i32.store (local.get $at) (i32.add (i32.load (local.get $at)) (i32.const 1))))
               (else
                 (if (i32.ge_s (local.get $closed) (i32.const 0))
@@ -255,6 +265,6 @@
             (local.set $h1 (i32.const 0x811c9dc5))
             (local.set $h2 (i32.const 0x9e3779b9))))
         (local.set $i (i32.add (local.get $i) (i32.const 1)))
-        (br $next)))
+        (br_if $next (i32.lt_u (local.get $i) (local.get $end)))))
     (local.get $rows))
 )
