@@ -17,14 +17,16 @@ export class LineWindow {
   private eof = false;
   private readonly fd: number;
 
+  /** `buffer`, if given, is used (its length the size) until a line longer than it needs a bigger one. */
   constructor(
     file: string,
     size: number,
     start = 0,
     private readonly limit = Number.POSITIVE_INFINITY,
+    buffer?: Buffer,
   ) {
     this.fd = openSync(file, 'r');
-    this.buf = Buffer.allocUnsafe(size);
+    this.buf = buffer ?? Buffer.allocUnsafe(size);
     this.base = start;
   }
 

@@ -8,6 +8,7 @@ interface WebAssemblyApi {
 
 interface KernelExports {
   memory: { buffer: ArrayBuffer; grow(pages: number): number };
+  sameBytes(a: number, b: number, max: number): number;
   count(pos: number, end: number, width: number, crlf: number, keys: number, special: number, counts: number, first: number, second: number): number;
 }
 
@@ -46,6 +47,24 @@ export class CsvKernel {
   /** `size` 32-bit integers of the memory from byte `at` (a multiple of 4). */
   int32s(at: number, size: number): Int32Array {
     return new Int32Array(this.exports.memory.buffer, at, size);
+  }
+
+  /**
+   * `size` bytes of the memory from `at`, as a Buffer that shares them. Growing the memory detaches
+   * it, so the caller reserves all it needs first.
+   */
+  buffer(at: number, size: number): Buffer {
+    return Buffer.from(this.exports.memory.buffer, at, size);
+  }
+
+  /** Whether `buffer` is memory of this kernel (as from `buffer`), and not detached. */
+  holds(buffer: Buffer): boolean {
+    return buffer.buffer === this.exports.memory.buffer;
+  }
+
+  /** How many bytes from memory offsets `a` and `b` are equal, at most `max`. */
+  sameBytes(a: number, b: number, max: number): number {
+    return this.exports.sameBytes(a, b, max);
   }
 
   count(...args: Parameters<KernelExports['count']>): number {

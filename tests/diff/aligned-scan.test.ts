@@ -220,6 +220,23 @@ describe('keyed diff of two deliveries in much the same order', () => {
     expect(retypes).toBeGreaterThanOrEqual(6);
   }, 120_000);
 
+  it('walks on when a line is longer than its window, and leaves out only identical lines', async () => {
+    // Windows of 2 KiB (8 x 256 bytes) and a 5,000-character note: the window must grow past the
+    // memory the walk compares in, and the walk goes on comparing with Buffer.compare.
+    const lines = Array.from({ length: 4000 }, (_, i) => `${i + 1},note ${i + 1}`);
+    // Far enough in that the parts are a small share of what the walk has seen.
+    lines[2999] = `3000,${'long note '.repeat(500)}`;
+    const changed = lines.map((line, i) => (i === 2999 ? `3000,${'long note '.repeat(499)}long NOTE ` : i === 3499 ? '3500,note 3500 changed' : line));
+    const { oldFile, newFile } = filePair('long-line', ['id,note', ...lines].join('\n') + '\n', ['id,note', ...changed].join('\n') + '\n');
+    const scanned = await scan(oldFile, newFile, { header: ['id', 'note'], windowBytes: 256 });
+    expect(scanned).toMatchObject({ kind: 'aligned', oldPartLines: 2, newPartLines: 2 });
+    const diff = (await diffFiles(oldFile, newFile, { key: ['id'] })) as TableDiff;
+    expect(diff.cells.map((c) => [c.key, c.new?.slice(-10)])).toEqual([
+      ['3000', 'long NOTE '],
+      ['3500', '00 changed'],
+    ]);
+  });
+
   it('steps aside for a line break inside quotes in the old file, and the whole-file diff answers', async () => {
     const { oldFile, newFile } = filePair('break', 'id,note\n1,"two\nlines"\n2,Lee\n3,Kim\n', 'id,note\n1,"two\nlines"\n2,Lea\n3,Kim\n');
     expect(await scan(oldFile, newFile, { header: ['id', 'note'] })).toEqual({ kind: 'unsuitable', reason: 'line break inside quotes' });

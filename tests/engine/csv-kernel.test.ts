@@ -3,12 +3,37 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { KERNEL_MODULE, kernelModuleText } from '../../scripts/wasm.js';
 import { FIT_COMBINATIONS, Unsuitable, countStretch, keyHashes, type RowStretch } from '../../src/diff/old-rows.js';
+import { CsvKernel } from '../../src/engine/csv-kernel.js';
+import { createRandom } from '../../src/demo/random.js';
 import { FITS_DATE, FITS_INTEGER, FITS_NUMBER } from '../../src/engine/text-fits.js';
 import { removeDir, tempDir } from '../helpers/project.js';
 
 describe('the compiled kernel', () => {
   it('is what csv-kernel.wat compiles to (run `npm run wasm` after editing the .wat)', async () => {
     expect(readFileSync(KERNEL_MODULE, 'utf8')).toBe(await kernelModuleText());
+  });
+});
+
+describe('equal bytes in the kernel', () => {
+  it('counts the bytes two stretches share from their start, as a byte-by-byte comparison does', () => {
+    const kernel = new CsvKernel();
+    const memory = kernel.reserve(1 << 16);
+    const random = createRandom(20261202);
+    for (let trial = 0; trial < 300; trial += 1) {
+      const length = Math.floor(random.next() * 200);
+      const a = Buffer.from(Array.from({ length }, () => Math.floor(random.next() * 256)));
+      const b = Buffer.from(a);
+      // Most trials change one byte somewhere (often near a word's edge); some change none.
+      if (length > 0 && trial % 5 !== 0) b[Math.floor(random.next() * length)] ^= 1 + Math.floor(random.next() * 255);
+      // Odd offsets, so that the eight-byte reads are unaligned.
+      memory.set(a, 1001);
+      memory.set(b, 30003);
+      const max = Math.floor(random.next() * (length + 1));
+      // The reference: Node's Buffer comparison, prefix by prefix.
+      let same = 0;
+      while (same < max && a.subarray(same, same + 1).equals(b.subarray(same, same + 1))) same += 1;
+      expect(kernel.sameBytes(1001, 30003, max), `trial ${trial}`).toBe(same);
+    }
   });
 });
 
