@@ -146,7 +146,7 @@ function finish(h: number): number {
 /**
  * A line's key as the two hashes countStretch gives it, or null if it has none or if a key field is
  * quoted with a quote inside (no old key is: countStretch refuses them). The kernel's `count` mixes the
- * same way, and the aligned-scan tests fail if the two part.
+ * same way; tests/engine/csv-kernel.test.ts checks that the two agree.
  */
 export function keyHashes(buf: Buffer, start: number, stop: number, delimiter: number, keyColumns: readonly number[]): { h1: number; h2: number } | null {
   if (stop > start && buf[stop - 1] === CARRIAGE_RETURN) stop -= 1;

@@ -17,7 +17,7 @@ let compiled: object | undefined;
 
 /**
  * One instance of csv-kernel.wat (see there): its own memory, which the caller lays out and fills
- * through `bytes`. Compiled once per thread, on first use.
+ * through the view `reserve` returns. Compiled once per thread, on first use.
  */
 export class CsvKernel {
   private readonly exports: KernelExports;
@@ -37,10 +37,6 @@ export class CsvKernel {
       memory.grow(Math.ceil((size - memory.buffer.byteLength) / PAGE));
       this.view = new Uint8Array(memory.buffer);
     }
-    return this.view;
-  }
-
-  get bytes(): Uint8Array {
     return this.view;
   }
 

@@ -13,6 +13,7 @@
 (module
   (memory (export "memory") 1)
 
+  ;; The fits of [s, e), four digits and a '-' already seen: a date if YYYY-MM-DD is a real day.
   (func $date (param $s i32) (param $e i32) (result i32)
     (local $m1 i32) (local $m2 i32) (local $d1 i32) (local $d2 i32) (local $year i32) (local $month i32) (local $day i32) (local $days i32)
     (if (i32.or (i32.ne (i32.sub (local.get $e) (local.get $s)) (i32.const 10))
@@ -51,6 +52,7 @@
                       (i32.eqz (i32.rem_u (local.get $year) (i32.const 400)))))))))
     (select (i32.const 8) (i32.const 0) (i32.le_u (local.get $day) (local.get $days))))
 
+  ;; The fits of [s, e), 4 or 5 bytes long: a boolean if "true" or "false" in any ASCII case.
   (func $boolean (param $s i32) (param $e i32) (result i32)
     (if (i32.eq (i32.sub (local.get $e) (local.get $s)) (i32.const 4))
       (then
@@ -69,7 +71,7 @@
                    (i32.eq (i32.or (i32.load8_u offset=3 (local.get $s)) (i32.const 32)) (i32.const 115))))
         (i32.eq (i32.or (i32.load8_u offset=4 (local.get $s)) (i32.const 32)) (i32.const 101)))))
 
-;; How many bytes from $a and from $b are equal, at most $max: eight at a time, then one by one.
+  ;; How many bytes from $a and from $b are equal, at most $max: eight at a time, then one by one.
   ;; The aligned scan's walk skips identical runs of two files with this.
   (func (export "sameBytes") (param $a i32) (param $b i32) (param $max i32) (result i32)
     (local $same i32) (local $x i64)

@@ -5,8 +5,8 @@ import { CsvKernel } from './csv-kernel.js';
  * raw UTF-8 bytes, so a scan outside the engine can count a column's fits without loading it. Where
  * the answer would depend on the engine's casts at their edges (exponents or digit runs in the
  * hundreds, year 0000), the value is UNSURE and the caller must let the engine decide instead.
- * The rules themselves are written into `count` in csv-kernel.wat, which the aligned scan runs over every value;
- * tests/diff/aligned-scan.test.ts checks every answer against the SQL rules.
+ * The rules themselves are written into `count` in csv-kernel.wat, which the aligned scan runs over
+ * every value; tests/diff/aligned-scan.test.ts checks every answer against the SQL rules.
  */
 export const FITS_INTEGER = 1;
 export const FITS_NUMBER = 2;
