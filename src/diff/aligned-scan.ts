@@ -4,7 +4,7 @@ import type { TypeFits } from '../engine/column-types.js';
 import { CsvKernel } from '../engine/csv-kernel.js';
 import { FITS_BOOLEAN, FITS_DATE, FITS_INTEGER, FITS_NUMBER, UNSURE } from '../engine/text-fits.js';
 import { LineWindow, NEWLINE } from './line-window.js';
-import { checkKeys, type KeyCheck } from './key-check.js';
+import { checkKeys, type KeyCheck, type KeyHashes } from './key-check.js';
 import { CARRIAGE_RETURN, FIT_COMBINATIONS, QUOTE, Unsuitable, averageLine, countStretch, keyHashes, unsuitable, type RowStretch, type StretchRows } from './old-rows.js';
 import { startWorker } from './worker-thread.js';
 
@@ -121,7 +121,7 @@ export async function scanAligned(oldFile: string, newFile: string, options: Ali
       newPartLines: parts.newLines,
       oldFits,
     };
-    const keysChecked = checkKeysAside({ stretches: old.stretches, oldKeys: Float64Array.from(parts.oldKeys), newKeys: Float64Array.from(parts.newKeys) });
+    const keysChecked = checkKeysAside({ stretches: old.stretches, oldKeys: keyHashesOf(parts.oldKeys), newKeys: keyHashesOf(parts.newKeys) });
     const alongside = options.whileKeysChecked?.(aligned);
     const [keys, work] = await Promise.allSettled([keysChecked, alongside]);
     if (keys.status === 'rejected') throw keys.reason;
@@ -323,9 +323,18 @@ interface WalkedParts {
   oldLines: number;
   newLines: number;
   /** Per written old line: its key's hashes. */
-  oldKeys: number[];
+  oldKeys: WrittenKeys;
   /** Per written new line with a key: its key's hashes. */
-  newKeys: number[];
+  newKeys: WrittenKeys;
+}
+
+interface WrittenKeys {
+  first: number[];
+  second: number[];
+}
+
+function keyHashesOf(keys: WrittenKeys): KeyHashes {
+  return { rows: keys.first.length, first: Int32Array.from(keys.first), second: Int32Array.from(keys.second) };
 }
 
 /**
@@ -341,24 +350,28 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
   // Both in the kernel's memory, so that it can compare them (sameRun).
   const kernel = new CsvKernel();
   kernel.reserve(window * 16);
-  const olds = new LineWindow(oldFile, window * 8, 0, undefined, kernel.buffer(0, window * 8));
-  const news = new LineWindow(newFile, window * 8, 0, undefined, kernel.buffer(window * 8, window * 8));
+  const olds = new LineWindow(oldFile, kernel.buffer(0, window * 8));
+  const news = new LineWindow(newFile, kernel.buffer(window * 8, window * 8));
   const lookahead = Math.min(LOOKAHEAD_BYTES, window / 4);
   const oldPart = new LineWriter(options.oldPart, header);
   const newPart = new LineWriter(options.newPart, header);
-  const oldKeys: number[] = [];
-  const newKeys: number[] = [];
+  const oldKeys: WrittenKeys = { first: [], second: [] };
+  const newKeys: WrittenKeys = { first: [], second: [] };
   try {
     olds.header();
     if (!news.header()?.equals(header)) unsuitable('headers differ');
     const writeOld = (stop: number) => {
       const key = keyHashes(olds.buf, olds.pos, stop, delimiter, keyColumns) ?? unsuitable('an old line without its key');
-      oldKeys.push(key.h1, key.h2);
+      oldKeys.first.push(key.h1);
+      oldKeys.second.push(key.h2);
       oldPart.write(olds.buf, olds.pos, stop + 1);
       olds.pos = stop + 1;
     };
     const writeNew = (stop: number, key: { h1: number; h2: number } | null) => {
-      if (key) newKeys.push(key.h1, key.h2);
+      if (key) {
+        newKeys.first.push(key.h1);
+        newKeys.second.push(key.h2);
+      }
       newPart.write(news.buf, news.pos, stop + 1);
       news.pos = stop + 1;
     };
@@ -424,12 +437,12 @@ function alignFiles(oldFile: string, newFile: string, header: Buffer, delimiter:
 
 /**
  * checkKeys (key-check.ts) on a worker thread when the old file was long enough to count in two
- * stretches: indexing ten million keys takes over a second, which the engine spends diffing the parts
- * meanwhile. Where the compiled worker does not exist (the test runner), on this thread.
+ * stretches: checking ten million keys takes most of a second, which the engine spends diffing the
+ * parts meanwhile. Where the compiled worker does not exist (the test runner), on this thread.
  */
 function checkKeysAside(check: KeyCheck): Promise<void> {
   if (check.stretches.length < 2 || !existsSync(fileURLToPath(KEY_WORKER))) return new Promise((resolve) => resolve(checkKeys(check)));
-  const buffers = [check.oldKeys.buffer, check.newKeys.buffer, ...check.stretches.flatMap((s) => [s.first.buffer, s.second.buffer])];
+  const buffers = [check.oldKeys, check.newKeys, ...check.stretches].flatMap((keys) => [keys.first.buffer, keys.second.buffer]);
   const worker = startWorker<void>(KEY_WORKER, check, buffers as ArrayBuffer[]);
   return worker.result.finally(worker.stop);
 }

@@ -1,13 +1,20 @@
 import { unsuitable } from './old-rows.js';
 
+/** The two key hashes of each of some rows or lines. */
+export interface KeyHashes {
+  rows: number;
+  first: Int32Array;
+  second: Int32Array;
+}
+
 /** What the aligned scan's key check needs: the old rows as counted, and the keys of the written lines. */
 export interface KeyCheck {
-  /** Consecutive stretches of the old file's rows: each row's key hashes. */
-  stretches: Array<{ rows: number; first: Int32Array; second: Int32Array }>;
-  /** Per written old line: its key's two hashes. */
-  oldKeys: Float64Array;
-  /** Per written new line with a key: its key's two hashes. */
-  newKeys: Float64Array;
+  /** Consecutive stretches of the old file's rows. */
+  stretches: KeyHashes[];
+  /** The written old lines. */
+  oldKeys: KeyHashes;
+  /** The written new lines with a key. */
+  newKeys: KeyHashes;
 }
 
 /**
@@ -31,8 +38,8 @@ export function checkKeys(check: KeyCheck): void {
   while (bits < 20 && rows >> bits > 16384) bits += 1;
   const shift = 32 - bits;
   const old = bucketed(bits, shift, stretches);
-  const writtenOld = bucketed(bits, shift, [pairs(oldKeys)]);
-  const writtenNew = bucketed(bits, shift, [pairs(newKeys)]);
+  const writtenOld = bucketed(bits, shift, [oldKeys]);
+  const writtenNew = bucketed(bits, shift, [newKeys]);
   let largest = 0;
   for (let b = 0; b < 1 << bits; b += 1) largest = Math.max(largest, old.begin[b + 1] - old.begin[b]);
   const capacity = tableSize(largest);
@@ -75,20 +82,8 @@ function tableSize(keys: number): number {
   return size;
 }
 
-/** Written keys as the stretches hold old ones. */
-function pairs(keys: Float64Array): { rows: number; first: Int32Array; second: Int32Array } {
-  const rows = keys.length / 2;
-  const first = new Int32Array(rows);
-  const second = new Int32Array(rows);
-  for (let i = 0; i < rows; i += 1) {
-    first[i] = keys[i * 2];
-    second[i] = keys[i * 2 + 1];
-  }
-  return { rows, first, second };
-}
-
 /** The keys' hash pairs, sorted by bucket (a counting sort): bucket b's are hashes[begin[b] * 2, begin[b + 1] * 2). */
-function bucketed(bits: number, shift: number, stretches: ReadonlyArray<{ rows: number; first: Int32Array; second: Int32Array }>): { begin: Int32Array; hashes: Int32Array } {
+function bucketed(bits: number, shift: number, stretches: readonly KeyHashes[]): { begin: Int32Array; hashes: Int32Array } {
   const buckets = 1 << bits;
   const begin = new Int32Array(buckets + 1);
   for (const { rows, first } of stretches) for (let i = 0; i < rows; i += 1) begin[(first[i] >>> shift) + 1] += 1;

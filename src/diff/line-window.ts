@@ -17,16 +17,15 @@ export class LineWindow {
   private eof = false;
   private readonly fd: number;
 
-  /** `buffer`, if given, is used (its length the size) until a line longer than it needs a bigger one. */
+  /** `size` is the buffer's length, or a buffer to use until a line longer than it needs a bigger one. */
   constructor(
     file: string,
-    size: number,
+    size: number | Buffer,
     start = 0,
     private readonly limit = Number.POSITIVE_INFINITY,
-    buffer?: Buffer,
   ) {
     this.fd = openSync(file, 'r');
-    this.buf = buffer ?? Buffer.allocUnsafe(size);
+    this.buf = typeof size === 'number' ? Buffer.allocUnsafe(size) : size;
     this.base = start;
   }
 

@@ -1,5 +1,5 @@
 import { isUtf8 } from 'node:buffer';
-import { CsvKernel } from '../engine/csv-kernel.js';
+import { FIT_COMBINATIONS, LineCounter } from '../engine/csv-kernel.js';
 import { LineWindow, NEWLINE } from './line-window.js';
 
 /**
@@ -30,7 +30,7 @@ export interface StretchRows {
   second: Int32Array<ArrayBuffer>;
 }
 
-export const FIT_COMBINATIONS = 32;
+export { FIT_COMBINATIONS };
 export const QUOTE = 34;
 export const CARRIAGE_RETURN = 13;
 
@@ -51,16 +51,7 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
   const { delimiter, width, crlf } = stretch;
   const window = new LineWindow(stretch.file, stretch.windowBytes * 2, stretch.start, stretch.end);
   const combinations = new Float64Array(width * FIT_COMBINATIONS);
-  // The kernel's memory: its counts per column and combination, the key columns, the bytes that end
-  // a field, then a block of lines, then their rows' key hashes.
-  const kernel = new CsvKernel();
-  const countsAt = 0;
-  const keysAt = width * FIT_COMBINATIONS * 4;
-  const specialAt = keysAt + width;
-  const blockAt = aligned(specialAt + 256);
-  const layout = kernel.reserve(blockAt);
-  for (const c of stretch.keyColumns) layout[keysAt + c] = 1;
-  for (const byte of [delimiter, NEWLINE, QUOTE]) layout[specialAt + byte] = 1;
+  const counter = new LineCounter(width, stretch.keyColumns, [delimiter, QUOTE], crlf);
   let capacity = Math.max(1 << 12, Math.ceil((stretch.end - stretch.start) / Math.max(1, averageLine(window))));
   let first = new Int32Array(capacity);
   let second = new Int32Array(capacity);
@@ -72,25 +63,18 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
       if (block.includes(0)) unsuitable('NUL byte');
       if (!isUtf8(block)) unsuitable('not UTF-8');
       if (crlf ? countOf(block, CARRIAGE_RETURN) !== countOf(block, NEWLINE) : block.includes(CARRIAGE_RETURN)) unsuitable('carriage returns other than line ends');
-      // A row has at least `width` bytes: its delimiters and newline.
-      const most = Math.floor(block.length / width) + 1;
-      const firstAt = aligned(blockAt + block.length);
-      const secondAt = firstAt + 4 * most;
-      kernel.reserve(secondAt + 4 * most).set(block, blockAt);
-      const counted = kernel.count(blockAt, blockAt + block.length, width, crlf ? 1 : 0, keysAt, specialAt, countsAt, firstAt, secondAt);
-      if (counted < 0) unsuitable(KERNEL_REASONS[-counted - 1]);
-      // Summed here block by block, so the kernel's 32-bit counts cannot overflow.
-      const counts = kernel.int32s(countsAt, combinations.length);
-      for (let i = 0; i < counts.length; i += 1) combinations[i] += counts[i];
-      counts.fill(0);
-      if (rows + counted > capacity) {
-        while (rows + counted > capacity) capacity *= 2;
+      const counted = counter.count(block);
+      if ('refused' in counted) unsuitable(counted.refused);
+      counter.takeCounts(combinations);
+      if (rows + counted.rows > capacity) {
+        while (rows + counted.rows > capacity) capacity *= 2;
         first = grown(first, new Int32Array(capacity));
         second = grown(second, new Int32Array(capacity));
       }
-      first.set(kernel.int32s(firstAt, counted), rows);
-      second.set(kernel.int32s(secondAt, counted), rows);
-      rows += counted;
+      const hashes = counter.hashes(counted.rows);
+      first.set(hashes.first, rows);
+      second.set(hashes.second, rows);
+      rows += counted.rows;
       window.pos = end;
       onBlock?.((window.offset - stretch.start) / Math.max(1, stretch.end - stretch.start));
     }
@@ -99,19 +83,6 @@ export function countStretch(stretch: RowStretch, onBlock?: (share: number) => v
     window.close();
   }
 }
-
-/** Why the kernel's `count` refused a block, by its code (-1, -2, ...). */
-const KERNEL_REASONS = [
-  'quote inside an unquoted field',
-  'line break inside quotes',
-  'a line without CR LF',
-  'text after a closing quote',
-  'ragged row',
-  'missing or padded key',
-  'quote in a key',
-];
-
-const aligned = (offset: number) => (offset + 15) & ~15;
 
 function countOf(bytes: Buffer, byte: number): number {
   let count = 0;
