@@ -19,9 +19,12 @@ interface Timing {
   kind: string;
   sql: string;
   ms: number;
+  /** When the statement started, ms since the build began. */
+  at: number;
 }
 
 const timings: Timing[] = [];
+let buildStarted = 0;
 let phase = 'open';
 
 /** A short name for what a statement does, from its text. */
@@ -58,7 +61,7 @@ function instrument(): void {
       try {
         return await original.call(this, sql, ...rest);
       } finally {
-        timings.push({ phase, kind, sql: String(sql).replace(/\s+/g, ' ').trim(), ms: performance.now() - started });
+        timings.push({ phase, kind, sql: String(sql).replace(/\s+/g, ' ').trim(), ms: performance.now() - started, at: started - buildStarted });
         // Lock-down is the last thing before the clean table is made and typed.
         if (/SET lock_configuration/.test(String(sql))) phase = 'initial typing';
       }
@@ -110,6 +113,7 @@ async function main(): Promise<void> {
   const mark = (name: string) => marks.push([name, performance.now()]);
 
   const started = performance.now();
+  buildStarted = started;
   mark('start');
   let sawCorrection = false;
   const build = await buildProject({
@@ -144,7 +148,17 @@ async function main(): Promise<void> {
   for (const t of [...timings].sort((a, b) => b.ms - a.ms).slice(0, options.top)) {
     console.log(`  ${fmt(t.ms)}  [${t.phase}] ${t.kind}: ${t.sql.slice(0, 150)}${t.sql.length > 150 ? '…' : ''}`);
   }
-  console.log(`\nNot SQL (git blob ids, output hashes, YAML, JS): ${fmt(total - sqlMs)}`);
+  console.log(`\nNot SQL (git blob ids, output hashes, YAML, JS): ${fmt(total - sqlMs)}, in gaps of 20 ms or more:`);
+  // Statements run one after another, so the time between one's end and the next one's start is JavaScript.
+  const ends = [0, ...timings.map((t) => t.at + t.ms)];
+  const starts = [...timings.map((t) => t.at), total];
+  for (let i = 0; i < starts.length; i += 1) {
+    const gap = starts[i] - ends[i];
+    if (gap < 20) continue;
+    const before = i > 0 ? timings[i - 1].kind : 'start';
+    const after = i < timings.length ? timings[i].kind : 'end';
+    console.log(`  ${fmt(gap)}  after ${before}, before ${after}${i < timings.length ? ` [${timings[i].phase}]` : ''}`);
+  }
 }
 
 main().catch((error) => {

@@ -68,9 +68,17 @@ export interface PreparedProject extends ProjectPlan {
  * Nothing is written here; see `stageOutputs`. The caller closes `session`.
  */
 export async function buildProject(options: BuildOptions): Promise<ProjectBuild> {
-  const session = await Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit });
+  // Starting the engine (0.1 s, most of it loading DuckDB) and reading the project files with their
+  // blob ids (0.15-0.25 s with a 100 MB delivery to hash) wait on different things, so both go at once.
+  const [opened, planned] = await Promise.allSettled([
+    Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit }),
+    planProject(options.tree, options),
+  ]);
+  if (opened.status === 'rejected') throw opened.reason;
+  const session = opened.value;
   try {
-    const prepared = await prepareProject(session, options.tree, options);
+    if (planned.status === 'rejected') throw planned.reason;
+    const prepared = await loadPlannedProject(session, options.tree, planned.value, options);
     await session.lockDown([options.workDir]);
     const tables = await correctProject(session, prepared, options);
     return { session, config: prepared.config, tables, conflicts: tables.flatMap((b) => b.conflicts) };

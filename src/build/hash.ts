@@ -1,10 +1,8 @@
 import { createHash } from 'node:crypto';
-import { createReadStream } from 'node:fs';
+import { hashOfFile } from '../file-hash.js';
 
-export async function sha256OfFile(file: string): Promise<string> {
-  const hash = createHash('sha256');
-  for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);
-  return hash.digest('hex');
+export function sha256OfFile(file: string): Promise<string> {
+  return hashOfFile(file, 'sha256');
 }
 
 export function sha256Of(content: Uint8Array | string): string {

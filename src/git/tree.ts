@@ -1,10 +1,11 @@
 import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, readdirSync, readFileSync, realpathSync, statSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync, realpathSync, statSync } from 'node:fs';
 import { ErrataError } from '../errors.js';
 import { writableDir } from '../scratch.js';
 import path from 'node:path';
 import { blobIdAt, listBlobsAt, readBlobAt, readBlobById, resolveRevision } from './repo.js';
 import { writeFileAtomically } from '../write-file.js';
+import { hashOfFile } from '../file-hash.js';
 
 /**
  * The project's files as they stand somewhere: the working tree, or a commit read straight from git
@@ -141,11 +142,7 @@ function byPath(a: string, b: string): number {
 
 /** git's blob id: sha1 over "blob <size>\0" and the content, streamed so large files stay cheap. */
 export async function gitBlobIdOfFile(file: string): Promise<string> {
-  const size = statSync(file).size;
-  const hash = createHash('sha1');
-  hash.update(`blob ${size}\0`);
-  for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);
-  return hash.digest('hex');
+  return hashOfFile(file, 'sha1', `blob ${statSync(file).size}\0`);
 }
 
 export function gitBlobIdOf(content: Uint8Array): string {
