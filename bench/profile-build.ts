@@ -21,6 +21,8 @@ interface Timing {
   ms: number;
   /** When the statement started, ms since the build began. */
   at: number;
+  /** CPU time of the whole process (every engine thread) while it ran. */
+  cpuMs: number;
 }
 
 const timings: Timing[] = [];
@@ -58,10 +60,11 @@ function instrument(): void {
       // Type detection never runs inside a correction: once it does, the corrections are done.
       if (kind === 'type detection scan' && phase.startsWith('correction')) phase = 'final typing';
       const started = performance.now();
+      const cpu = process.cpuUsage();
       try {
         return await original.call(this, sql, ...rest);
       } finally {
-        timings.push({ phase, kind, sql: String(sql).replace(/\s+/g, ' ').trim(), ms: performance.now() - started, at: started - buildStarted });
+        timings.push({ phase, kind, sql: String(sql).replace(/\s+/g, ' ').trim(), ms: performance.now() - started, at: started - buildStarted, cpuMs: cpuMsSince(cpu) });
         // Lock-down is the last thing before the clean table is made and typed.
         if (/SET lock_configuration/.test(String(sql))) phase = 'initial typing';
       }
@@ -82,20 +85,27 @@ function args(argv: string[]) {
   return out;
 }
 
+function cpuMsSince(start: NodeJS.CpuUsage): number {
+  const used = process.cpuUsage(start);
+  return (used.user + used.system) / 1000;
+}
+
 const fmt = (ms: number) => `${(ms / 1000).toFixed(2).padStart(7)} s`;
 
-function table(title: string, groups: Map<string, { ms: number; n: number }>, total: number): void {
-  console.log(`\n${title}`);
+function table(title: string, groups: Map<string, { ms: number; n: number; cpuMs: number }>, total: number): void {
+  // Cores busy: CPU time over wall time; 2.0 on two cores means the engine used both throughout.
+  console.log(`\n${title} (cores busy in brackets)`);
   for (const [name, g] of [...groups].sort((a, b) => b[1].ms - a[1].ms)) {
-    console.log(`  ${fmt(g.ms)} ${((100 * g.ms) / total).toFixed(1).padStart(5)} %  ${String(g.n).padStart(4)}x  ${name}`);
+    console.log(`  ${fmt(g.ms)} ${((100 * g.ms) / total).toFixed(1).padStart(5)} %  ${String(g.n).padStart(4)}x  (${(g.cpuMs / g.ms).toFixed(1)})  ${name}`);
   }
 }
 
-function groupBy(items: Timing[], key: (t: Timing) => string): Map<string, { ms: number; n: number }> {
-  const groups = new Map<string, { ms: number; n: number }>();
+function groupBy(items: Timing[], key: (t: Timing) => string): Map<string, { ms: number; n: number; cpuMs: number }> {
+  const groups = new Map<string, { ms: number; n: number; cpuMs: number }>();
   for (const t of items) {
-    const g = groups.get(key(t)) ?? { ms: 0, n: 0 };
+    const g = groups.get(key(t)) ?? { ms: 0, n: 0, cpuMs: 0 };
     g.ms += t.ms;
+    g.cpuMs += t.cpuMs;
     g.n += 1;
     groups.set(key(t), g);
   }
@@ -146,7 +156,7 @@ async function main(): Promise<void> {
   table('By correction', groupBy(timings.filter((t) => t.phase.startsWith('correction')), (t) => t.phase.slice('correction '.length)), total);
   console.log(`\nSlowest ${options.top} statements`);
   for (const t of [...timings].sort((a, b) => b.ms - a.ms).slice(0, options.top)) {
-    console.log(`  ${fmt(t.ms)}  [${t.phase}] ${t.kind}: ${t.sql.slice(0, 150)}${t.sql.length > 150 ? '…' : ''}`);
+    console.log(`  ${fmt(t.ms)} (${(t.cpuMs / t.ms).toFixed(1)})  [${t.phase}] ${t.kind}: ${t.sql.slice(0, 150)}${t.sql.length > 150 ? '…' : ''}`);
   }
   console.log(`\nNot SQL (git blob ids, output hashes, YAML, JS): ${fmt(total - sqlMs)}, in gaps of 20 ms or more:`);
   // Statements run one after another, so the time between one's end and the next one's start is JavaScript.
