@@ -72,6 +72,21 @@ describe('malformed CSV', () => {
     expect(Number(n)).toBe(3_000_000);
   });
 
+  it('a ragged row after a 7 MB line across the reader\'s buffer boundary is refused with its line, not dropped with the rows after it', async () => {
+    // DuckDB 1.5's parallel reader, with its 128 MiB buffers, returned this file without the ragged
+    // row and the ten after it, and no error (with 48 MiB buffers, the same at 44 and 92 MiB); the
+    // loader counts records itself (csv-records.ts) and reads serially on a mismatch.
+    const row = 'r,filler-value-00000000000000000000\n';
+    const rows = Math.ceil((124 << 20) / row.length);
+    const filler = Buffer.alloc(rows * row.length, row);
+    const tail = `long,${'z'.repeat(7_000_000)}\nragged,a,b\n${'after,row\n'.repeat(10)}`;
+    const { error } = await load(Buffer.concat([Buffer.from('id,x\n'), filler, Buffer.from(tail)]));
+    expect(error?.code).toBe('CSV_MALFORMED');
+    expect(error?.message).toMatch(/3 fields where the header has 2/);
+    // Line 1 the header, then the filler rows, the long line, and the ragged row.
+    expect(error?.data).toMatchObject({ file: 'raw/t/delivery.csv', line: rows + 3 });
+  }, 60_000);
+
   it('a NUL byte far into a long file is found, with its record', async () => {
     // The bytes are scanned in blocks of 4 MiB: the NUL sits about 6.5 MB in (rows of some 26 bytes).
     const rows = Array.from({ length: 300_000 }, (_, i) => `${i + 1},value-${String(i).padStart(12, '0')}`);
