@@ -2,6 +2,7 @@ import { closeSync, existsSync, openSync, readSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { scanDelimited } from './csv-records.js';
+import { firstBadJsonLine, lineOfRecord } from './json-lines.js';
 import { lineEndingProblem } from './line-endings.js';
 import type { Session } from './session.js';
 import { ident, identList, literal } from './sql.js';
@@ -50,14 +51,14 @@ export async function loadFile(session: Session, input: InputFile, target: strin
     case 'csv':
     case 'tsv': {
       const { header, holdsNulByte } = await loadDelimited(session, input, target);
-      if (holdsNulByte) await assertNoNulBytes(session, target, header, input.name, 1);
+      if (holdsNulByte) await assertNoNulBytes(session, target, header, input.name, async (record) => record + 1);
       return header;
     }
     case 'parquet':
       return loadParquet(session, input, target);
     case 'jsonl': {
       const columns = await loadJsonLines(session, input, target);
-      await assertNoNulBytes(session, target, columns, input.name, 0);
+      await assertNoNulBytes(session, target, columns, input.name, (record) => lineOfRecord(input.localPath, record));
       return columns;
     }
   }
@@ -67,7 +68,13 @@ export async function loadFile(session: Session, input: InputFile, target: strin
  * A NUL byte is no character any survey or lab system means to deliver: it marks a damaged file, and
  * would travel on into a clean CSV, where many programs stop reading at it.
  */
-async function assertNoNulBytes(session: Session, table: string, columns: readonly string[], file: string, headerLines: number): Promise<void> {
+async function assertNoNulBytes(
+  session: Session,
+  table: string,
+  columns: readonly string[],
+  file: string,
+  lineOf: (record: number) => Promise<number>,
+): Promise<void> {
   if (columns.length === 0) return;
   // rowid of a table created from a file is the record's position in it.
   const rows = await session.all<Record<string, unknown> & { __errata_row: bigint }>(`
@@ -80,7 +87,7 @@ async function assertNoNulBytes(session: Session, table: string, columns: readon
   const column = columns.find((c) => String(rows[0][c] ?? '').includes('\0'));
   throw new ErrataError('CSV_MALFORMED', `record ${row} holds a NUL byte in column "${column}"`, {
     hint: 'The file is damaged or not text; ask for it to be exported again and deliver it as a new raw file.',
-    data: { file, line: row + headerLines, column },
+    data: { file, line: await lineOf(row), column },
   });
 }
 
@@ -281,10 +288,11 @@ async function loadJsonLines(session: Session, input: InputFile, target: string)
       SELECT row_number() OVER () AS line, json FROM read_ndjson_objects(${literal(input.localPath)})`);
   } catch (error) {
     const message = (error as Error).message;
-    const line = Number(/line (\d+)/i.exec(message)?.[1] ?? 0) || undefined;
-    throw new ErrataError('INPUT_FORMAT', `not valid JSON lines: ${message.split('\n')[0].replaceAll(input.localPath, input.name)}`, {
+    const reported = Number(/line (\d+)/i.exec(message)?.[1] ?? 0) || undefined;
+    const found = await firstBadJsonLine(input.localPath, reported);
+    throw new ErrataError('INPUT_FORMAT', found ? `not valid JSON lines: ${found.what}` : `not valid JSON lines: ${message.split('\n')[0].replaceAll(input.localPath, input.name)}`, {
       hint: 'Each line must hold one JSON object; fix or re-export the file.',
-      data: { file: input.name, line },
+      data: { file: input.name, line: found?.line ?? reported },
     });
   }
   const notObjects = await session.all<{ line: bigint }>(
@@ -293,7 +301,7 @@ async function loadJsonLines(session: Session, input: InputFile, target: string)
   if (notObjects.length) {
     throw new ErrataError('INPUT_FORMAT', 'a line holds a JSON value that is not an object', {
       hint: 'Each line must be one object such as {"id": 1, "age": 34}.',
-      data: { file: input.name, line: Number(notObjects[0].line) },
+      data: { file: input.name, line: await lineOfRecord(input.localPath, Number(notObjects[0].line)) },
     });
   }
   const keys = await session.all<{ key: string }>(`

@@ -147,6 +147,36 @@ describe('Parquet and JSON lines', () => {
     expect(error.code).toBe('INPUT_FORMAT');
     expect(error.data).toMatchObject({ file: 'raw/t/delivery.jsonl', line: 2 });
   });
+
+  it('refuses a JSON line left open, naming that line rather than the next one, where the reader gave up', async () => {
+    // Line 2 lacks its closing brace; DuckDB's reader carries on into line 3 and names line 3.
+    const root = project({ 'raw/t/delivery.jsonl': '{"id": 1}\n{"id": 2, "x": "b"\n{"id": 3}\n' });
+    const error = await loadError(root);
+    expect(error.code).toBe('INPUT_FORMAT');
+    expect(error.data).toMatchObject({ file: 'raw/t/delivery.jsonl', line: 2 });
+    expect(error.message).toMatch(/line 2 is not one whole JSON value/);
+  });
+
+  it('names a non-object\'s line of the file, not its place among the values, when blank lines come first', async () => {
+    // Line 2 is blank (the reader skips it), so the array is the second value but on line 3.
+    const root = project({ 'raw/t/delivery.jsonl': '{"id": 1}\n\n[1, 2]\n{"id": 3}\n' });
+    const error = await loadError(root);
+    expect(error.code).toBe('INPUT_FORMAT');
+    expect(error.data).toMatchObject({ file: 'raw/t/delivery.jsonl', line: 3 });
+  });
+
+  it('names the line of a NUL written as an escape, blank lines counted', async () => {
+    const root = project({ 'raw/t/delivery.jsonl': '{"id": 1, "x": "a"}\n\n\n{"id": 2, "x": "b\\u0000c"}\n' });
+    const error = await loadError(root);
+    expect(error.message).toMatch(/NUL byte in column "x"/);
+    expect(error.data).toMatchObject({ file: 'raw/t/delivery.jsonl', line: 4 });
+  });
+
+  it('names the last line when it is the one left open, blank lines counted', async () => {
+    const root = project({ 'raw/t/delivery.jsonl': '{"id": 1}\n\n{"id": 2}\n{"id": 3\n' });
+    const error = await loadError(root);
+    expect(error.data).toMatchObject({ file: 'raw/t/delivery.jsonl', line: 4 });
+  });
 });
 
 describe('malformed deliveries are refused with a code and the line to look at', () => {
