@@ -36,7 +36,11 @@ export function lineEndingProblem(file: string): LineEndingProblem | null {
           continue;
         }
         if (byte === 0x22) quoted = !quoted;
-        else if (quoted) continue;
+        else if (quoted) {
+          // A line break inside quotes is part of a value, but still a line of the file.
+          if (byte === 0x0a) line += 1;
+          continue;
+        }
         else if (byte === 0x0d) pendingCr = true;
         else if (byte === 0x0a) {
           if (first === 'CRLF') return { line, what: `line ${line} ends with LF where line 1 ends with CRLF (mixed line endings)` };

@@ -1,7 +1,7 @@
 import { closeSync, existsSync, openSync, readSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { scanDelimited } from './csv-records.js';
+import { fileLineOfUnit, scanDelimited } from './csv-records.js';
 import { firstBadJsonLine, lineOfRecord } from './json-lines.js';
 import { lineEndingProblem } from './line-endings.js';
 import type { Session } from './session.js';
@@ -51,7 +51,11 @@ export async function loadFile(session: Session, input: InputFile, target: strin
     case 'csv':
     case 'tsv': {
       const { header, holdsNulByte } = await loadDelimited(session, input, target);
-      if (holdsNulByte) await assertNoNulBytes(session, target, header, input.name, async (record) => record + 1);
+      if (holdsNulByte) {
+        // Record 1 is the first after the header; a line break inside quotes spans file lines.
+        const lineOf = async (record: number) => (await fileLineOfUnit(input.localPath, delimiterOf(input), header.length, record + 1, false)) ?? record + 1;
+        await assertNoNulBytes(session, target, header, input.name, lineOf);
+      }
       return header;
     }
     case 'parquet':
@@ -91,8 +95,10 @@ async function assertNoNulBytes(
   });
 }
 
+const delimiterOf = (input: InputFile) => input.delimiter ?? (input.format === 'tsv' ? '\t' : ',');
+
 async function loadDelimited(session: Session, input: InputFile, target: string): Promise<{ header: string[]; holdsNulByte: boolean }> {
-  const delimiter = input.delimiter ?? (input.format === 'tsv' ? '\t' : ',');
+  const delimiter = delimiterOf(input);
   const header = readHeader(input, delimiter);
   const columns = header.map((name) => `${literal(name)}: 'VARCHAR'`).join(', ');
   const read = (parallel: boolean) => `CREATE OR REPLACE TABLE ${ident(target)} AS
@@ -106,7 +112,7 @@ async function loadDelimited(session: Session, input: InputFile, target: string)
     await session.runRaw(read(true));
   } catch (error) {
     await scanning.catch(() => undefined);
-    throw csvError(input, (error as Error).message);
+    throw await csvRefusal(input, delimiter, header.length, (error as Error).message);
   }
   const scan = await scanning;
   if ((await rowCount(session, target)) !== scan.records - 1) {
@@ -114,7 +120,7 @@ async function loadDelimited(session: Session, input: InputFile, target: string)
     try {
       await session.runRaw(read(false));
     } catch (error) {
-      throw csvError(input, (error as Error).message);
+      throw await csvRefusal(input, delimiter, header.length, (error as Error).message);
     }
     const rows = await rowCount(session, target);
     if (rows !== scan.records - 1) {
@@ -141,9 +147,17 @@ async function rowCount(session: Session, table: string): Promise<number> {
  */
 const MAX_LINE_BYTES = 8 * 1024 * 1024;
 
-/** DuckDB's CSV messages carry the line; keep it, name the file, and say what to do. */
-function csvError(input: InputFile, message: string): ErrataError {
-  const line = Number(/CSV Error on Line: (\d+)/.exec(message)?.[1] ?? 0) || undefined;
+/**
+ * DuckDB's CSV messages carry a line, counted in records and blank lines: find the file's own line
+ * (they differ after a line break inside quotes), name the file, and say what to do.
+ */
+async function csvRefusal(input: InputFile, delimiter: string, width: number, message: string): Promise<ErrataError> {
+  const reported = Number(/CSV Error on Line: (\d+)/.exec(message)?.[1] ?? 0) || undefined;
+  const line = reported && ((await fileLineOfUnit(input.localPath, delimiter, width, reported, true)) ?? reported);
+  return csvError(input, message, line);
+}
+
+function csvError(input: InputFile, message: string, line: number | undefined): ErrataError {
   const columns = /Expected Number of Columns: (\d+) Found: (\d+)/.exec(message);
   const data = { file: input.name, line };
   if (/maximum line size/i.test(message)) {

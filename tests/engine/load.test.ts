@@ -180,6 +180,26 @@ describe('Parquet and JSON lines', () => {
 });
 
 describe('malformed deliveries are refused with a code and the line to look at', () => {
+  // DuckDB numbers lines by records and blank lines, so after a line break inside quotes its line
+  // is behind the file's; each case below is counted by hand in its comment.
+  it.each([
+    // header 1, the quoted value on lines 2-3, line 4 fine, line 5 has three fields
+    ['a ragged row', 'id,x\n1,"a\nb"\n2,c\n3,d,e\n', 5, /3 fields where the header has 2/],
+    // header 1, the quoted value on lines 2-3, line 4 opens a quote never closed
+    ['an unclosed quote', 'id,x\n1,"a\nb"\n2,"c\n3,d\n', 4, /never closed/],
+    // header 1, the quoted value on lines 2-4, line 5 holds the NUL
+    ['a NUL byte', 'id,x\n1,"a\nb\nc"\n2,b\u0000c\n', 5, /NUL byte in column "x"/],
+    // header 1, the quoted value on lines 2-3, line 4 ends with CRLF
+    ['mixed line endings', 'id,x\n1,"a\nb"\n2,c\r\n', 4, /mixed line endings/],
+    // header 1, lines 2 and 4-5 hold records, 3 is blank, line 6 has three fields
+    ['a ragged row after a blank line', 'id,x\n1,a\n\n2,"b\nc"\n3,d,e\n', 6, /3 fields where the header has 2/],
+  ])('%s after a line break inside quotes is named by the file\'s own line number', async (_what, content, line, message) => {
+    const error = await loadError(project({ 'raw/t/d.csv': content }));
+    expect(error.code).toBe('CSV_MALFORMED');
+    expect(error.message).toMatch(message);
+    expect(error.data).toMatchObject({ file: 'raw/t/d.csv', line });
+  });
+
   it('a ragged row (too few fields) is CSV_MALFORMED at its line', async () => {
     const error = await loadError(project({ 'raw/t/d.csv': 'id,a,b\n1,x,y\n2,x\n3,x,y\n' }));
     expect(error.code).toBe('CSV_MALFORMED');
