@@ -3,7 +3,7 @@ import { existsSync, mkdirSync, renameSync, rmSync } from 'node:fs';
 import { faultPoint } from '../fault.js';
 import path from 'node:path';
 import { ErrataError } from '../errors.js';
-import { columnNames, formatOf, loadFile, stackTables, type InputFile } from '../engine/load-table.js';
+import { columnNames, formatOf, lineOfDataRow, loadFile, stackTables, type InputFile } from '../engine/load-table.js';
 import { ident, literal } from '../engine/sql.js';
 import { assertKeyValid } from '../engine/keys.js';
 import type { Session } from '../engine/session.js';
@@ -128,7 +128,12 @@ export async function loadRawTable(
     parts.push(part);
   }
   if (parts.length > 1) await stackTables(session, parts, target);
-  await assertKeyValid(session, target, table.key, columns, chosen.length === 1 ? chosen[0].path : table.raw);
+  // Rows of one file can be found again in it (read only if a key is wrong); stacked files are named by their folder.
+  const only = chosen.length === 1 ? chosen[0].path : null;
+  const lineOf = only
+    ? async (row: number) => lineOfDataRow({ name: only, localPath: await tree.localPath(only), format: formatOf(only, table.format)!, delimiter: table.delimiter }, columns.length, row)
+    : undefined;
+  await assertKeyValid(session, target, table.key, columns, only ?? table.raw, lineOf);
   return { inputs: [...chosen], columns };
 }
 

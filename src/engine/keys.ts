@@ -19,9 +19,17 @@ export function keyText(values: readonly string[]): string {
 
 /**
  * Every row must have a key, and no two rows the same key. Errors name the file and show a few
- * examples so the user can find them.
+ * examples so the user can find them; `lineOf` gives a data row's line in the file (by default the row
+ * plus the header, which is wrong once a quoted value spans lines or a line is blank).
  */
-export async function assertKeyValid(session: Session, table: string, key: readonly string[], columns: readonly string[], file: string): Promise<void> {
+export async function assertKeyValid(
+  session: Session,
+  table: string,
+  key: readonly string[],
+  columns: readonly string[],
+  file: string,
+  lineOf: (row: number) => Promise<number> = async (row) => row + 1,
+): Promise<void> {
   for (const k of key) {
     if (!columns.includes(k)) {
       throw new ErrataError('KEY_COLUMN_MISSING', `the key column "${k}" is not in the file`, {
@@ -44,7 +52,7 @@ export async function assertKeyValid(session: Session, table: string, key: reado
     const rows = missing.map((m) => String(m.row)).join(', ');
     throw new ErrataError('KEY_MISSING', `${missing.length === 5 ? 'at least 5 rows have' : `${missing.length} row${missing.length > 1 ? 's have' : ' has'}`} no value in the key (${key.join(', ')}): data row ${rows}`, {
       hint: 'Every row needs a key value. Ask the data provider for the missing keys and deliver a corrected file.',
-      data: { file, line: lineOfRow(Number(missing[0].row)), column: key.join(','), rows: missing.map((m) => Number(m.row)) },
+      data: { file, line: await lineOf(Number(missing[0].row)), column: key.join(','), rows: missing.map((m) => Number(m.row)) },
     });
   }
   const duplicates = await session.all<{ key: string; count: bigint; rows: bigint[] }>(`
@@ -56,12 +64,7 @@ export async function assertKeyValid(session: Session, table: string, key: reado
     const examples = duplicates.map((d) => `${d.key} (${d.count} rows: data rows ${d.rows.map(String).join(', ')})`).join('; ');
     throw new ErrataError('KEY_DUPLICATE', `the key (${key.join(', ')}) is not unique: ${examples}`, {
       hint: 'Each key must identify one row. Ask the data provider which row is right, or choose a key of several columns in errata.yaml.',
-      data: { file, line: lineOfRow(Number(duplicates[0].rows[1])), column: key.join(','), examples: duplicates.map((d) => d.key) },
+      data: { file, line: await lineOf(Number(duplicates[0].rows[1])), column: key.join(','), examples: duplicates.map((d) => d.key) },
     });
   }
-}
-
-/** The file line of a data row, counting the header as line 1; exact unless a quoted field spans lines. */
-function lineOfRow(row: number): number {
-  return row + 1;
 }

@@ -51,20 +51,33 @@ export async function loadFile(session: Session, input: InputFile, target: strin
     case 'csv':
     case 'tsv': {
       const { header, holdsNulByte } = await loadDelimited(session, input, target);
-      if (holdsNulByte) {
-        // Record 1 is the first after the header; a line break inside quotes spans file lines.
-        const lineOf = async (record: number) => (await fileLineOfUnit(input.localPath, delimiterOf(input), header.length, record + 1, false)) ?? record + 1;
-        await assertNoNulBytes(session, target, header, input.name, lineOf);
-      }
+      if (holdsNulByte) await assertNoNulBytes(session, target, header, input.name, (row) => lineOfDataRow(input, header.length, row));
       return header;
     }
     case 'parquet':
       return loadParquet(session, input, target);
     case 'jsonl': {
       const columns = await loadJsonLines(session, input, target);
-      await assertNoNulBytes(session, target, columns, input.name, (record) => lineOfRecord(input.localPath, record));
+      await assertNoNulBytes(session, target, columns, input.name, (row) => lineOfDataRow(input, columns.length, row));
       return columns;
     }
+  }
+}
+
+/**
+ * The file line of a loaded file's data row (1-based, in the order loaded), for messages: found by
+ * reading the file again, since a quoted value may span lines and blank lines are skipped. Parquet
+ * has no lines: it is counted as a file with a header line would be, as before.
+ */
+export async function lineOfDataRow(input: InputFile, width: number, row: number): Promise<number> {
+  switch (input.format) {
+    case 'csv':
+    case 'tsv':
+      return (await fileLineOfUnit(input.localPath, delimiterOf(input), width, row + 1, false)) ?? row + 1;
+    case 'jsonl':
+      return lineOfRecord(input.localPath, row);
+    case 'parquet':
+      return row + 1;
   }
 }
 

@@ -2,7 +2,7 @@ import path from 'node:path';
 import { ErrataError } from '../errors.js';
 import { applyColumnTypes, decideFromGroups, type TextColumns, type ValueType } from './column-types.js';
 import { assertKeyValid } from './keys.js';
-import { formatOf, loadFile, type FileFormat } from './load-table.js';
+import { formatOf, lineOfDataRow, loadFile, type FileFormat } from './load-table.js';
 import type { Session } from './session.js';
 
 interface LoadFileOptions {
@@ -41,8 +41,9 @@ export async function loadCheckedFile(session: Session, file: string, target: st
       data: { file },
     });
   }
-  const columns = await loadFile(session, { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter }, target);
+  const input = { name: file, localPath: path.resolve(file), format, delimiter: options.delimiter };
+  const columns = await loadFile(session, input, target);
   const key = options.key ?? [];
-  if (key.length) await assertKeyValid(session, target, key, columns, file);
+  if (key.length) await assertKeyValid(session, target, key, columns, file, (row) => lineOfDataRow(input, columns.length, row));
   return { columns, key };
 }

@@ -252,6 +252,19 @@ describe('malformed deliveries are refused with a code and the line to look at',
     expect(error.data.line).toBe(4);
   });
 
+  it('key problems after a line break inside quotes and a blank line are named by the file\'s own lines', async () => {
+    // Lines: 1 header, 2-3 data row 1 (a quoted value over two lines), 4 data row 2, 5 blank,
+    // 6 data row 3 repeating id 1.
+    const repeat = await loadError(project({ 'raw/t/d.csv': 'id,a\n1,"x\ny"\n2,z\n\n1,w\n' }));
+    expect(repeat.code).toBe('KEY_DUPLICATE');
+    expect(repeat.message).toMatch(/1 \(2 rows: data rows 1, 3\)/);
+    expect(repeat.data.line).toBe(6);
+    // The same lines with id 5 on line 6, then line 7: data row 4 without an id.
+    const missing = await loadError(project({ 'raw/t/d.csv': 'id,a\n1,"x\ny"\n2,z\n\n5,w\n,v\n' }));
+    expect(missing.code).toBe('KEY_MISSING');
+    expect(missing.data.line).toBe(7);
+  });
+
   it('a repeated key and a missing key far into a long delivery are named by their lines in the file', async () => {
     // Long enough (about 80 MB) that DuckDB reads it in parallel pieces and, left free to, stores rows
     // out of file order; the lines named must still be the file's. Data row r holds id r and sits on
