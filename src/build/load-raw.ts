@@ -112,8 +112,9 @@ export async function loadRawTable(
   const chosen = planned ?? (await planRawTable(tree, table));
   const parts: string[] = [];
   let columns: string[] = [];
+  const inputOf = (file: string) => ({ name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter });
   for (const [index, { path: file, blob }] of chosen.entries()) {
-    const input = { name: file, format: formatOf(file, table.format)!, delimiter: table.delimiter };
+    const input = inputOf(file);
     const part = chosen.length === 1 ? target : `${target}__part${index}`;
     columns = await loadCached(session, tree, input, part, blob, cache);
     await assertHasRows(session, part, file);
@@ -131,7 +132,7 @@ export async function loadRawTable(
   // Rows of one file can be found again in it (read only if a key is wrong); stacked files are named by their folder.
   const only = chosen.length === 1 ? chosen[0].path : null;
   const lineOf = only
-    ? async (row: number) => lineOfDataRow({ name: only, localPath: await tree.localPath(only), format: formatOf(only, table.format)!, delimiter: table.delimiter }, columns.length, row)
+    ? async (row: number) => lineOfDataRow({ ...inputOf(only), localPath: await tree.localPath(only) }, columns.length, row)
     : undefined;
   await assertKeyValid(session, target, table.key, columns, only ?? table.raw, lineOf);
   return { inputs: [...chosen], columns };

@@ -13,21 +13,13 @@ export interface JsonLineProblem {
  * line where it gave up, which for an object left open is the line after the one to fix.
  */
 export async function firstBadJsonLine(file: string, lastLine = Number.POSITIVE_INFINITY): Promise<JsonLineProblem | null> {
-  const lines = createInterface({ input: createReadStream(file, { encoding: 'utf8' }), crlfDelay: Number.POSITIVE_INFINITY });
-  let line = 0;
-  try {
-    for await (const text of lines) {
-      line += 1;
-      if (line > lastLine) break;
-      if (text.trim() === '') continue;
-      try {
-        JSON.parse(text);
-      } catch (error) {
-        return { line, what: `line ${line} is not one whole JSON value (${(error as Error).message})` };
-      }
+  for await (const { line, text } of nonBlankLines(file)) {
+    if (line > lastLine) break;
+    try {
+      JSON.parse(text);
+    } catch (error) {
+      return { line, what: `line ${line} is not one whole JSON value (${(error as Error).message})` };
     }
-  } finally {
-    lines.close();
   }
   return null;
 }
@@ -37,17 +29,24 @@ export async function firstBadJsonLine(file: string, lastLine = Number.POSITIVE_
  * it read, and skips blank lines, which the file's line numbers count.
  */
 export async function lineOfRecord(file: string, record: number): Promise<number> {
+  let seen = 0;
+  for await (const { line } of nonBlankLines(file)) {
+    seen += 1;
+    if (seen === record) return line;
+  }
+  return record;
+}
+
+/** The file's lines that hold more than white space, with their 1-based line numbers. */
+async function* nonBlankLines(file: string): AsyncGenerator<{ line: number; text: string }> {
   const lines = createInterface({ input: createReadStream(file, { encoding: 'utf8' }), crlfDelay: Number.POSITIVE_INFINITY });
   let line = 0;
-  let seen = 0;
   try {
     for await (const text of lines) {
       line += 1;
-      if (text.trim() !== '') seen += 1;
-      if (seen === record) return line;
+      if (text.trim() !== '') yield { line, text };
     }
   } finally {
     lines.close();
   }
-  return record;
 }
