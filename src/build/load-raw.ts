@@ -84,6 +84,16 @@ async function writeCacheEntry(session: Session, table: string, cached: string):
  * with their blob ids; nothing is read yet, so a caller can tell from these whether it needs to.
  */
 export async function planRawTable(tree: ProjectTree, table: TableConfig): Promise<RawInput[]> {
+  const planned = listRawTable(tree, table);
+  for (const input of await planned) input.blob = await tree.blobId(input.path);
+  return planned;
+}
+
+/**
+ * The files `planRawTable` names, their blob ids still to be filled in (empty): a caller without a
+ * parse cache needs them only for the manifest, and can hash while the engine reads.
+ */
+export async function listRawTable(tree: ProjectTree, table: TableConfig): Promise<RawInput[]> {
   const candidates = (await tree.list(table.raw)).filter((f) => formatOf(f, table.format) !== null);
   if (candidates.length === 0) {
     throw new ErrataError('INPUT_MISSING', `no data file for table "${table.name}" under ${table.raw}`, {
@@ -92,9 +102,7 @@ export async function planRawTable(tree: ProjectTree, table: TableConfig): Promi
     });
   }
   const chosen = table.deliveries === 'latest' ? [candidates[candidates.length - 1]] : candidates;
-  const planned: RawInput[] = [];
-  for (const file of chosen) planned.push({ path: file, blob: await tree.blobId(file) });
-  return planned;
+  return chosen.map((file) => ({ path: file, blob: '' }));
 }
 
 /**
