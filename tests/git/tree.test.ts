@@ -1,10 +1,12 @@
 import { execFileSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
 import { chmodSync, cpSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { deflateSync } from 'node:zlib';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { resolveRevision } from '../../src/git/repo.js';
 import { RevisionTree, WorkingTree, gitBlobIdOf } from '../../src/git/tree.js';
+import { hashOfFile } from '../../src/file-hash.js';
 import { commit, makeProject, removeDir, tempDir, writeFiles } from '../helpers/project.js';
 
 describe('reading the project at a revision', () => {
@@ -54,6 +56,22 @@ describe('reading the project at a revision', () => {
     expect(await head.blobId('raw/t/a.csv')).toBe(gitHash);
     const emptyBlob = execFileSync('git', ['hash-object', '--stdin'], { input: '', encoding: 'utf8' }).trim();
     expect(gitBlobIdOf(new Uint8Array())).toBe(emptyBlob);
+  });
+
+  it('hashes files below, at and above the 4 MiB read size as git and a one-shot hash do', async () => {
+    const dir = tempDir();
+    const tree = new WorkingTree(dir);
+    for (const size of [0, 5, (4 << 20) - 1, 4 << 20, (4 << 20) + 1, 9 * (1 << 20) + 7]) {
+      const name = `f${size}.csv`;
+      const bytes = Buffer.alloc(size);
+      for (let i = 0; i < size; i++) bytes[i] = (i * 7919 + (i >> 13)) & 0xff;
+      writeFileSync(path.join(dir, name), bytes);
+      // git hash-object is the reference for a blob id; node:crypto over the whole buffer for SHA-256.
+      const gitHash = execFileSync('git', ['hash-object', name], { cwd: dir, encoding: 'utf8' }).trim();
+      expect(await tree.blobId(name), `blob id of ${size} bytes`).toBe(gitHash);
+      expect(await hashOfFile(path.join(dir, name), 'sha256'), `SHA-256 of ${size} bytes`).toBe(createHash('sha256').update(bytes).digest('hex'));
+    }
+    removeDir(dir);
   });
 
   it('unpacks a delivery at a commit byte for byte as git does, loose or packed, and refuses a damaged object', async () => {
