@@ -10,7 +10,7 @@ import { loadConfig, selectTables, type ProjectConfig, type TableConfig } from '
 import { applyCorrections, createLineageTable, type Conflict } from '../corrections/apply-corrections.js';
 import { loadCorrections } from '../corrections/load-corrections.js';
 import type { Correction } from '../corrections/types.js';
-import { listRawTable, loadRawTable, planRawTable, type RawCache, type RawInput } from './load-raw.js';
+import { fillRawBlobs, listRawTable, loadRawTable, planRawTable, type RawCache, type RawInput } from './load-raw.js';
 
 export type BuildProgress =
   | { phase: 'load'; table: string }
@@ -68,10 +68,10 @@ export interface PreparedProject extends ProjectPlan {
  * Nothing is written here; see `stageOutputs`. The caller closes `session`.
  */
 export async function buildProject(options: BuildOptions): Promise<ProjectBuild> {
-  // Starting the engine (0.1 s, most of it loading DuckDB) and reading the project files with their
-  // blob ids (0.15-0.25 s with a 100 MB delivery to hash) wait on different things, so both go at once.
-  // Without a parse cache the deliveries' blob ids only go into the manifest: they are worked out
-  // while the engine reads the files (hashing 100 MB takes 0.2-0.3 s on this thread).
+  // Starting the engine (0.1 s, most of it loading DuckDB) and reading the project files wait on
+  // different things, so both go at once. Without a parse cache the deliveries' blob ids only go into
+  // the manifest: they are worked out while the engine reads the files (hashing 100 MB takes 0.2-0.3 s
+  // on this thread).
   const hashLater = !options.cache;
   const [opened, planned] = await Promise.allSettled([
     Session.open({ spillDir: path.join(options.workDir, 'spill'), memoryLimit: options.memoryLimit }),
@@ -81,7 +81,7 @@ export async function buildProject(options: BuildOptions): Promise<ProjectBuild>
   const session = opened.value;
   try {
     if (planned.status === 'rejected') throw planned.reason;
-    const hashed = hashLater ? fillRawBlobs(options.tree, planned.value) : Promise.resolve();
+    const hashed = hashLater ? fillRawBlobs(options.tree, planned.value.tables.flatMap((t) => t.inputs)) : Promise.resolve();
     const [loaded, hashing] = await Promise.allSettled([loadPlannedProject(session, options.tree, planned.value, options), hashed]);
     if (loaded.status === 'rejected') throw loaded.reason;
     if (hashing.status === 'rejected') throw hashing.reason;
@@ -118,7 +118,7 @@ export async function planProject(tree: ProjectTree, options: { table?: string; 
   for (const table of selected) {
     const codebook = await loadCodebook(tree, table.codebook);
     const corrections = await loadCorrections(tree, table.corrections);
-    // Without `rawBlobs` the raw inputs' blob ids are left empty for fillRawBlobs.
+    // Without `rawBlobs` the raw inputs' blob ids are left empty, for fillRawBlobs (load-raw.ts).
     const inputs = await (options.rawBlobs === false ? listRawTable : planRawTable)(tree, table);
     const sources: RawInput[] = [];
     if (codebook) sources.push({ path: table.codebook, blob: await tree.blobId(table.codebook) });
@@ -126,11 +126,6 @@ export async function planProject(tree: ProjectTree, options: { table?: string; 
     tables.push({ table, codebook, corrections, inputs, sources });
   }
   return { config, tables };
-}
-
-/** The blob ids planProject left out (`rawBlobs: false`), one file after another. */
-async function fillRawBlobs(tree: ProjectTree, plan: ProjectPlan): Promise<void> {
-  for (const { inputs } of plan.tables) for (const input of inputs) input.blob = await tree.blobId(input.path);
 }
 
 /**

@@ -84,9 +84,14 @@ async function writeCacheEntry(session: Session, table: string, cached: string):
  * with their blob ids; nothing is read yet, so a caller can tell from these whether it needs to.
  */
 export async function planRawTable(tree: ProjectTree, table: TableConfig): Promise<RawInput[]> {
-  const planned = listRawTable(tree, table);
-  for (const input of await planned) input.blob = await tree.blobId(input.path);
+  const planned = await listRawTable(tree, table);
+  await fillRawBlobs(tree, planned);
   return planned;
+}
+
+/** Fill in the blob ids `listRawTable` leaves empty, one file after another. */
+export async function fillRawBlobs(tree: ProjectTree, inputs: readonly RawInput[]): Promise<void> {
+  for (const input of inputs) input.blob = await tree.blobId(input.path);
 }
 
 /**
